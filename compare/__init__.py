@@ -1,0 +1,1 @@
+"""Comparison machinery: algebra backend, Gröbner and Bethe-point engines, verdicts, CLI."""

@@ -1,0 +1,1 @@
+"""Human- and machine-readable output: discrepancy reports, tables, figures."""
