@@ -1,0 +1,151 @@
+"""The `ringmatch` command line.
+
+Every subcommand is a small function `cmd_<name>(args) -> int` registered in `build_parser`.
+Bad input raises `UsageError` (or one of the domain errors listed in `USER_ERRORS`); `main`
+turns it into a one-line message on stderr and exit status 2, never a traceback.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from typing import List, Optional
+
+from presentations import FAMILIES, get_family
+from presentations.flagtype import FlagType, FlagTypeError, parse_flag
+from presentations.interface import PresentationError, build_symbolic
+
+from . import algebra
+
+
+class UsageError(ValueError):
+    """Bad input from the user: reported in one line, exit status 2."""
+
+
+USER_ERRORS = (UsageError, FlagTypeError, PresentationError)
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):   # argparse would print the whole usage block
+        raise UsageError(message)
+
+
+# ---------------------------------------------------------------------------------------
+# Shared option handling
+
+def flag_argument(text: str) -> FlagType:
+    try:
+        return parse_flag(text)
+    except FlagTypeError as error:   # argparse would replace our message by a generic one
+        raise argparse.ArgumentTypeError(str(error)) from None
+
+
+def presentation_list(text: str) -> List[str]:
+    names = [t.strip() for t in text.split(",")]
+    if not all(names):
+        raise argparse.ArgumentTypeError(f"{text!r}: empty name in the list")
+    if len(set(names)) != len(names):
+        raise argparse.ArgumentTypeError(f"{text!r}: a presentation is named twice")
+    for name in names:
+        try:
+            get_family(name)
+        except KeyError as error:
+            raise argparse.ArgumentTypeError(str(error.args[0])) from None
+    return names
+
+
+def resolve_family(name: str):
+    try:
+        return get_family(name)
+    except KeyError as error:
+        raise UsageError(str(error.args[0])) from None
+
+
+def int_list(option: str, text: str) -> List[int]:
+    try:
+        return [int(t) for t in text.split(",")]
+    except ValueError:
+        raise UsageError(f"{option} {text!r}: expected comma-separated integers") from None
+
+
+def prime_argument(text: str) -> int:
+    try:
+        p = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+    import flint
+    if p < 3 or p >= 2**63 or not flint.fmpz(p).is_prime():
+        raise argparse.ArgumentTypeError(f"{p} is not a prime with 3 ≤ p < 2^63")
+    return p
+
+
+def emit(args, result: dict, human: str) -> None:
+    if getattr(args, "json", False):
+        print(json.dumps(result, indent=2, sort_keys=False))
+    else:
+        print(human)
+
+
+# ---------------------------------------------------------------------------------------
+# Subcommands
+
+def cmd_relations(args) -> int:
+    from reports.formulas import presentation_text
+    family = resolve_family(args.presentation)
+    presentation = build_symbolic(family, args.case, equivariant=not args.plain)
+    print(presentation_text(presentation, latex=args.latex))
+    return 0
+
+
+def cmd_check(args) -> int:
+    from .engine import check_case, check_summary_text
+    families = [resolve_family(name) for name in args.presentations]
+    result = check_case(args.case, families, seed=args.seed, prime=args.prime,
+                        equivariant=not args.plain)
+    emit(args, result, check_summary_text(result))
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="ringmatch",
+                     description="Compare presentations of quantum K-theory rings of flag varieties.")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    p = sub.add_parser("relations", help="print the generators and relations of a presentation")
+    p.add_argument("case", type=flag_argument, help="flag type, e.g. 'Fl(1,3;5)', 'Gr(2,5)', P4")
+    p.add_argument("--presentation", default="whitney",
+                   help=f"family name ({', '.join(sorted(FAMILIES))}); default whitney")
+    p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
+    p.add_argument("--latex", action="store_true", help="LaTeX instead of plain text")
+    p.set_defaults(run=cmd_relations)
+
+    p = sub.add_parser("check", help="decide whether presentations of one case agree")
+    p.add_argument("case", type=flag_argument)
+    p.add_argument("--presentations", type=presentation_list, default=["whitney"],
+                   help="comma-separated family names; default whitney")
+    p.add_argument("--seed", type=int, help="seed for the random specialisation (recorded)")
+    p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
+    p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
+    p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    p.set_defaults(run=cmd_check)
+    return parser
+
+
+def main(argv: Optional[List[str]] = None) -> int:
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+        if not getattr(args, "run", None):
+            parser.print_help()
+            return 2
+        return args.run(args)
+    except USER_ERRORS as error:
+        print(f"ringmatch: {error}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("ringmatch: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())
