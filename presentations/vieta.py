@@ -1,0 +1,119 @@
+"""Critical-point (Coulomb branch) equations symmetrised by Vieta's formulas (DESIGN.md §2.2).
+
+With N_i(y) = λ_y(S_{i+1}) + y^{d_i}·q_i·(det S_{i+1}/det S_i)·λ_y(S_{i−1}), every −1/X^(i)_a
+is a root of N_i, so λ_y(S_i) divides N_i(y).  Multiplying by the unit det S_i gives the
+polynomial
+
+    M_i(y) = det S_i·λ_y(S_{i+1}) + y^{d_i}·q_i·det S_{i+1}·λ_y(S_{i−1})      (degree k_{i+1}).
+
+Two forms (sources for the equations: arXiv:2208.01091, arXiv:2310.03826):
+
+* auxiliary-root form ("vieta"): new generators w_{i,j} = e_j(Y^(i)), 1 ≤ j ≤ d_i, and the
+  coefficients of y^1…y^{k_{i+1}} of det S_i·λ_y(S_i)·λ_y(Y^(i)) − M_i(y);
+* eliminated form ("vieta-eliminated"): only λ(S); the k_i coefficients of the remainder of
+  the division of the reversal y^{k_{i+1}}·M_i(1/y) by the monic y^{k_i}·λ_{1/y}(S_i).
+  Why the reversal: λ_y(S_i) has constant term 1, so it divides M_i(y) exactly when its
+  reversal divides the reversal of M_i (derived here; the tests confirm the resulting ideal),
+  and dividing by a monic polynomial needs no inverse of det S_i, so the relations stay
+  polynomial and small.
+
+In both forms det S_i must be invertible; it is declared a unit and the engine adjoins the
+inverse (which is how spurious solutions with det S_i = 0 are excluded).
+"""
+from __future__ import annotations
+
+from typing import List
+
+from compare import algebra
+from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
+from .flagtype import FlagType
+from .interface import Family, Generator, Relation
+from .meanings import Meaning, lambda_S, lambda_S_name
+from .whitney import lambda_y_S
+
+
+def aux_name(i: int, j: int) -> str:
+    return f"w{i}_{j}"
+
+
+def _lambda_S_generators(flag: FlagType) -> List[Generator]:
+    return [Generator(lambda_S_name(i, j), lambda_S(i, j), j)
+            for i in range(1, flag.m + 1) for j in range(1, flag.k(i) + 1)]
+
+
+def det_S(flag: FlagType, ring: algebra.Ring, i: int):
+    return lambda_y_S(flag, ring, i)[flag.k(i)]
+
+
+def cleared_N(flag: FlagType, ring: algebra.Ring, i: int) -> algebra.YPoly:
+    """M_i(y) = det S_i · N_i(y), a polynomial in y of degree k_{i+1}."""
+    zero = ring.zero
+    head = ypoly_scale(lambda_y_S(flag, ring, i + 1), det_S(flag, ring, i))
+    tail = ypoly_shift(ypoly_scale(lambda_y_S(flag, ring, i - 1),
+                                   ring.q[i - 1] * det_S(flag, ring, i + 1)), flag.d(i), zero)
+    return ypoly_add(head, tail, zero)
+
+
+def auxiliary_generators(flag: FlagType) -> List[Generator]:
+    gens = []
+    for i in range(1, flag.m + 1):
+        gens += [Generator(lambda_S_name(i, j), lambda_S(i, j), j) for j in range(1, flag.k(i) + 1)]
+        gens += [Generator(aux_name(i, j), Meaning("vieta_aux", i, j), j)
+                 for j in range(1, flag.d(i) + 1)]
+    return gens
+
+
+def auxiliary_relations(flag: FlagType, ring: algebra.Ring) -> List[Relation]:
+    zero = ring.zero
+    out = []
+    for i in range(1, flag.m + 1):
+        lam_Y = [ring.one] + [ring.gen[aux_name(i, j)] for j in range(1, flag.d(i) + 1)]
+        product = ypoly_scale(ypoly_mul(lambda_y_S(flag, ring, i), lam_Y, zero),
+                              det_S(flag, ring, i))
+        total = ypoly_sub(product, cleared_N(flag, ring, i), zero)
+        out += [Relation(f"level {i}, y^{j}", total[j]) for j in range(1, flag.k(i + 1) + 1)]
+    return out
+
+
+def remainder_by_monic(numerator: list, divisor: list, zero) -> list:
+    """Remainder of polynomial division (lists, lowest degree first) by a monic divisor."""
+    rest = list(numerator)
+    top = len(divisor) - 1
+    for power in range(len(rest) - 1, top - 1, -1):
+        c = rest[power]
+        if c == zero:
+            continue
+        for a in range(top + 1):
+            rest[power - top + a] = rest[power - top + a] - c * divisor[a]
+    return rest[:top]
+
+
+def eliminated_relations(flag: FlagType, ring: algebra.Ring) -> List[Relation]:
+    out = []
+    for i in range(1, flag.m + 1):
+        reversed_M = cleared_N(flag, ring, i)[::-1]
+        reversed_lambda = lambda_y_S(flag, ring, i)[::-1]          # monic: leading 1
+        remainder = remainder_by_monic(reversed_M, reversed_lambda, ring.zero)
+        out += [Relation(f"level {i}, remainder y^{j}", c) for j, c in enumerate(remainder)]
+    return out
+
+
+def units(flag: FlagType, ring: algebra.Ring) -> list:
+    return [det_S(flag, ring, i) for i in range(1, flag.m + 1)]
+
+
+FAMILY = Family(
+    name="vieta",
+    description="Vieta-symmetrised critical-point equations with auxiliary roots e_j(Y^(i))",
+    generators=auxiliary_generators,
+    relations=auxiliary_relations,
+    units=units,
+)
+
+ELIMINATED = Family(
+    name="vieta-eliminated",
+    description="Vieta-symmetrised critical-point equations, auxiliary roots eliminated",
+    generators=_lambda_S_generators,
+    relations=eliminated_relations,
+    units=units,
+)
