@@ -1,0 +1,181 @@
+"""Presentations supplied by users as files (the format: docs/presentation-files.md).
+
+A file is read (`userfile_container`), parsed (`userfile_syntax`) and, for each flag type it
+is asked about, expanded (`userfile_expand`); the result is an ordinary `Family` record, so
+display, Gröbner bases, Bethe points and comparisons treat it like a built-in family.
+
+Public functions:
+
+* `load_family(path)`            → Family          (errors: PresentationFileError)
+* `family_from_text(text, label)` → Family
+* `family_from_spec(spec)`       → Family
+* `case_file_text(family, flag)` → str: any family for one flag type, written as a case file
+* `shipped_files()`              → {name: path} of the files shipped in presentations/files
+* `looks_like_path(name)`        → whether a presentation name on the command line is a file
+"""
+from __future__ import annotations
+
+import json
+import os
+import re
+from functools import lru_cache
+from pathlib import Path
+from typing import Dict, List, Optional, Tuple
+
+from .flagtype import FlagType
+from .interface import Family, PresentationError, Relation, build_symbolic
+from .userfile_container import FileSpec, read_file, read_text
+from .userfile_expand import Expanded, expand, transport, unsupported_reason
+from .userfile_syntax import PresentationFileError
+
+__all__ = ["PresentationFileError", "load_family", "family_from_text", "family_from_spec",
+           "case_file_text", "shipped_files", "looks_like_path", "polynomial_text"]
+
+FILES_DIRECTORY = Path(__file__).resolve().parent / "files"
+
+
+def looks_like_path(name: str) -> bool:
+    return name.endswith(".toml") or "/" in name or os.sep in name
+
+
+def load_family(path: str) -> Family:
+    try:
+        stat = os.stat(path)
+    except OSError as error:
+        raise PresentationFileError(f"cannot read the file: {error.strerror or error}", str(path))
+    return _load_cached(str(path), os.path.realpath(path), stat.st_mtime_ns, stat.st_size)
+
+
+@lru_cache(maxsize=64)
+def _load_cached(label: str, real_path: str, mtime: int, size: int) -> Family:
+    # Keyed on the real path and modification time, so an edited file is read again; errors
+    # name the file as the user wrote it.
+    return family_from_spec(read_file(label))
+
+
+def family_from_text(text: str, label: str = "<text>") -> Family:
+    return family_from_spec(read_text(text, label))
+
+
+def family_from_spec(spec: FileSpec) -> Family:
+    @lru_cache(maxsize=16)
+    def expanded(flag: FlagType) -> Expanded:
+        reason = unsupported_reason(spec, flag)
+        if reason:
+            raise PresentationError(f"{spec.name} has no presentation for {flag.name}: {reason}")
+        return expand(spec, flag)
+
+    def generators(flag):
+        return list(expanded(flag).generators)
+
+    def relations(flag, ring):
+        result = expanded(flag)
+        return [Relation(label, transport(poly, result, ring)) for label, poly in result.relations]
+
+    def units(flag, ring):
+        result = expanded(flag)
+        return [transport(poly, result, ring) for poly in result.units]
+
+    def expected_colength(flag):
+        return expanded(flag).expected_colength
+
+    def unsupported(flag):
+        return unsupported_reason(spec, flag)
+
+    description = spec.description or f"{spec.flavour} file {spec.file}"
+    return Family(spec.name, description, generators, relations, units, expected_colength,
+                  unsupported)
+
+
+# ---------------------------------------------------------------------------------------
+# Shipped files
+
+def shipped_files() -> Dict[str, Path]:
+    """Files under presentations/files (examples included), by their file name stem."""
+    if not FILES_DIRECTORY.is_dir():
+        return {}
+    return {path.stem: path for path in sorted(FILES_DIRECTORY.rglob("*.toml"))}
+
+
+def shipped_family(name: str) -> Optional[Family]:
+    path = shipped_files().get(name)
+    return None if path is None else load_family(str(path))
+
+
+# ---------------------------------------------------------------------------------------
+# Writing a case file
+
+_VALID_NAME = re.compile(r"[A-Za-z][A-Za-z0-9]*(?:_[0-9]+)*")
+
+
+def polynomial_text(poly, names) -> str:
+    """A polynomial over Q in the file syntax (+ - * / ^, integers), terms in ring order."""
+    pieces: List[Tuple[bool, str]] = []
+    for exponents, c in zip(poly.monoms(), poly.coeffs()):
+        factors = [name if e == 1 else f"{name}^{e}" for name, e in zip(names, exponents) if e]
+        magnitude = abs(c)
+        if not factors:
+            body = str(magnitude)
+        elif magnitude == 1:
+            body = "*".join(factors)
+        else:
+            body = "*".join([str(magnitude)] + factors)
+        pieces.append((c < 0, body))
+    if not pieces:
+        return "0"
+    text = ("-" if pieces[0][0] else "") + pieces[0][1]
+    for negative, body in pieces[1:]:
+        text += (" - " if negative else " + ") + body
+    return text
+
+
+def _toml_string(text: str) -> str:
+    return json.dumps(text, ensure_ascii=False).replace("\x7f", "\\u007f")
+
+
+def _template_literal(text: str) -> str:
+    return text.replace("{", "{{").replace("}", "}}")
+
+
+def _expression_field(key: str, expression: str, width: int = 96) -> str:
+    if len(expression) <= width:
+        return f'{key} = "{expression}"'
+    lines, current = [], ""
+    for piece in re.split(r"(?= [+-] )", expression):
+        if current and len(current) + len(piece) > width:
+            lines.append(current)
+            current = " " + piece.lstrip()
+        else:
+            current += piece
+    lines.append(current)
+    return f'{key} = """\n' + "\n".join("  " + line.strip() for line in lines) + '\n"""'
+
+
+def case_file_text(family: Family, flag: FlagType, *, equivariant: bool = True) -> str:
+    """`family` for `flag`, written out as a case file that this module reads back."""
+    presentation = build_symbolic(family, flag, equivariant=equivariant)
+    names = presentation.ring.ctx.names()
+    for g in presentation.generators:
+        if not _VALID_NAME.fullmatch(g.name):
+            raise PresentationFileError(f"generator name {g.name!r} of {family.name} cannot be "
+                                        "written in a presentation file", "<case file>")
+    plain = "" if equivariant else " (non-equivariant: T_j = 1)"
+    name = re.sub(r"[^A-Za-z0-9_.+-]+", "-", f"{family.name}-{flag.name}").strip("-")
+    out = [f"# The {family.name} presentation of QK_T({flag.name}){plain}, written out by "
+           "ringmatch.",
+           "format = 1",
+           'flavour = "case"',
+           f"name = {_toml_string(name)}",
+           f"description = {_toml_string(f'{family.name} presentation of {flag.name}{plain}')}",
+           f"case = {_toml_string(flag.name)}"]
+    if presentation.expected_colength != flag.rank:
+        out.append(f"expected_colength = {presentation.expected_colength}")
+    for g in presentation.generators:
+        out += ["", "[[generators]]", f"name = {_toml_string(g.name)}",
+                f"meaning = {_toml_string(g.meaning.text)}", f"weight = {g.weight}"]
+    for relation in presentation.relations:
+        out += ["", "[[relations]]", f"label = {_toml_string(_template_literal(relation.label))}",
+                _expression_field("expr", polynomial_text(relation.poly, names))]
+    for unit in presentation.units:
+        out += ["", "[[units]]", _expression_field("expr", polynomial_text(unit, names))]
+    return "\n".join(out) + "\n"

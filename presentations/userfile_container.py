@@ -1,0 +1,450 @@
+"""Presentation files, part 2: the TOML container.
+
+Reads the file (size-limited), parses TOML with the standard library, checks the keys and
+types of every table, and parses each string field with the expression grammar of
+`userfile_syntax`.  The result is a `FileSpec`: plain records, independent of any flag type.
+
+TOML parsers do not report where a value came from, so `StringLocator` re-scans the file for
+its string literals (decoding escapes itself) and hands out, for each string value, the file
+offset of each of its characters; errors inside an expression then point at the exact line
+and column in the file.
+"""
+from __future__ import annotations
+
+import re
+import sys
+from dataclasses import dataclass
+from typing import Dict, List, Optional, Tuple, Union
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:                                              # pragma: no cover - older Pythons
+    import tomli as tomllib
+
+from .flagtype import FlagType, FlagTypeError, parse_flag
+from .userfile_syntax import (Binding, LineIndex, Loc, Node, PresentationFileError, SourceText,
+                              Template, fail, parse_bindings, parse_expression, parse_meaning,
+                              parse_relation, parse_single_binding, parse_template)
+
+MAX_FILE_BYTES = 256 * 1024
+MAX_GROUP_DEPTH = 6
+FORMAT_VERSION = 1
+NAME_PATTERN = re.compile(r"[A-Za-z][A-Za-z0-9_.+-]{0,63}")
+APPLIES_TO_WORDS = ("all", "grassmannians", "projective", "complete")
+
+
+# ---------------------------------------------------------------------------------------
+# Records
+
+@dataclass(frozen=True)
+class GeneratorDecl:
+    name: Template
+    meaning: Node
+    weight: Union[int, Node]
+    weight_at: Loc
+
+
+@dataclass(frozen=True)
+class RelationDecl:
+    expr: Node
+    coefficients: Optional[Binding]
+    label: Optional[Template]
+
+
+@dataclass(frozen=True)
+class UnitDecl:
+    expr: Node
+
+
+Decl = Union[GeneratorDecl, RelationDecl, UnitDecl]
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One table of `generators`, `relations` or `units`: loops, then a declaration or a group."""
+    loops: Tuple[Binding, ...]
+    decl: Optional[Decl]
+    group: Tuple["Entry", ...]
+    at: Loc
+
+
+@dataclass(frozen=True)
+class FileSpec:
+    file: str
+    flavour: str                   # "case" or "family"
+    name: str
+    description: str
+    case: Optional[FlagType]       # case files
+    applies_to: Tuple[str, ...]    # family files: words of APPLIES_TO_WORDS or flag names
+    expected_colength: Optional[Union[int, Node]]
+    generators: Tuple[Entry, ...]
+    relations: Tuple[Entry, ...]
+    units: Tuple[Entry, ...]
+    at: Dict[str, Loc]             # where each top-level key is, for errors about it
+
+
+# ---------------------------------------------------------------------------------------
+# Locating string values in the file
+
+_ESCAPES = {"b": "\b", "t": "\t", "n": "\n", "f": "\f", "r": "\r", '"': '"', "\\": "\\"}
+
+
+@dataclass
+class StringLocator:
+    file: str
+    text: str
+    lines: LineIndex
+    literals: List[Tuple[str, Tuple[int, ...], int]]   # decoded value, offset of each char,
+                                                       # offset where the content starts
+    used: List[bool]
+    whole: SourceText
+
+    @staticmethod
+    def scan(file: str, text: str) -> "StringLocator":
+        literals = _scan_strings(text)
+        lines = LineIndex.of(text)
+        whole = SourceText(file, text, lines)
+        return StringLocator(file, text, lines, literals, [False] * len(literals), whole)
+
+    def source(self, value: str, fallback: Loc) -> SourceText:
+        """The first unused literal with this decoded value; else positions at `fallback`."""
+        for index, (decoded, offsets, start) in enumerate(self.literals):
+            if not self.used[index] and decoded == value:
+                self.used[index] = True
+                return SourceText(self.file, value, self.lines, offsets,
+                                  self.lines.line_col(start))
+        return SourceText(self.file, value, None, None, fallback.source.where(fallback.offset))
+
+    def table_start(self, item: dict) -> Optional[int]:
+        """Where the table holding `item` starts ('[[' or '{'), found from its first string
+        value (TOML keeps the keys of a table in file order)."""
+        for value in item.values():
+            if isinstance(value, str):
+                for index, (decoded, _, start) in enumerate(self.literals):
+                    if not self.used[index] and decoded == value:
+                        return max(self.text.rfind("[[", 0, start), self.text.rfind("{", 0, start))
+                return None
+        return None
+
+    def key_in_table(self, key: str, start: Optional[int], fallback: Loc) -> Loc:
+        if start is None or start < 0:
+            return fallback
+        pattern = re.compile(rf"(?<![A-Za-z0-9_\-\"']){re.escape(key)}[ \t]*=")
+        match = pattern.search(self.text, start)
+        return Loc(self.whole, match.start()) if match else fallback
+
+    def key(self, path: str) -> Loc:
+        """Where a key (the last part of a dotted path) or table header first appears."""
+        last = path.split(".")[-1]
+        if not last:
+            return Loc(self.whole, 0)
+        pattern = re.compile(rf"^[ \t]*(\[\[?[ \t]*)?({re.escape(last)})[ \t]*[\]=.]",
+                             re.MULTILINE)
+        match = pattern.search(self.text)
+        return Loc(self.whole, match.start(2) if match else 0)
+
+
+def _scan_strings(text: str) -> List[Tuple[str, Tuple[int, ...], int]]:
+    """All string literals of a TOML text, decoded, with the file offset of every character.
+
+    A best-effort scanner: where it disagrees with the real parser the only consequence is a
+    less precise error position."""
+    out = []
+    i, size = 0, len(text)
+    while i < size:
+        char = text[i]
+        if char == "#":
+            end = text.find("\n", i)
+            i = size if end < 0 else end
+            continue
+        if char not in "\"'":
+            i += 1
+            continue
+        delimiter = char * 3 if text.startswith(char * 3, i) else char
+        start = i + len(delimiter)
+        if len(delimiter) == 3 and text.startswith("\r\n", start):
+            start += 2
+        elif len(delimiter) == 3 and text.startswith("\n", start):
+            start += 1
+        decoded, offsets, i = _read_string(text, start, delimiter)
+        out.append(("".join(decoded), tuple(offsets), start))
+    return out
+
+
+def _read_string(text: str, i: int, delimiter: str):
+    decoded: List[str] = []
+    offsets: List[int] = []
+    basic = delimiter[0] == '"'
+    multiline = len(delimiter) == 3
+    size = len(text)
+    while i < size:
+        if text.startswith(delimiter, i):
+            if multiline:                  # up to two quotes may precede the closing three
+                extra = 0
+                while extra < 2 and text.startswith(delimiter[0], i + 3 + extra):
+                    extra += 1
+                for _ in range(extra):
+                    decoded.append(delimiter[0])
+                    offsets.append(i)
+                    i += 1
+            return decoded, offsets, i + len(delimiter)
+        char = text[i]
+        if char == "\n" and not multiline:
+            return decoded, offsets, i
+        if basic and char == "\\":
+            nxt = text[i + 1:i + 2]
+            if nxt in _ESCAPES:
+                decoded.append(_ESCAPES[nxt])
+                offsets.append(i)
+                i += 2
+                continue
+            if nxt in ("u", "U"):
+                width = 4 if nxt == "u" else 8
+                try:
+                    decoded.append(chr(int(text[i + 2:i + 2 + width], 16)))
+                except (ValueError, OverflowError):
+                    decoded.append("\ufffd")
+                offsets.append(i)
+                i += 2 + width
+                continue
+            if multiline:                  # line-ending backslash: drop the following space
+                j = i + 1
+                while j < size and text[j] in " \t":
+                    j += 1
+                if j < size and text[j] in "\r\n":
+                    while j < size and text[j] in " \t\r\n":
+                        j += 1
+                    i = j
+                    continue
+        if char == "\r" and text.startswith("\r\n", i):
+            i += 1
+            continue
+        decoded.append(char)
+        offsets.append(i)
+        i += 1
+    return decoded, offsets, i
+
+
+# ---------------------------------------------------------------------------------------
+# Reading
+
+def read_file(path: str) -> FileSpec:
+    label = str(path)
+    try:
+        with open(path, "rb") as handle:
+            raw = handle.read(MAX_FILE_BYTES + 1)
+    except OSError as error:
+        raise PresentationFileError(f"cannot read the file: {error.strerror or error}", label)
+    return read_bytes(raw, label)
+
+
+def read_bytes(raw: bytes, label: str) -> FileSpec:
+    if len(raw) > MAX_FILE_BYTES:
+        raise PresentationFileError(f"file larger than {MAX_FILE_BYTES} bytes", label)
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as error:
+        line = raw[:error.start].count(b"\n") + 1
+        column = error.start - (raw.rfind(b"\n", 0, error.start) + 1) + 1
+        raise PresentationFileError("not UTF-8 text", label, line, column) from None
+    return read_text(text, label)
+
+
+def read_text(text: str, label: str = "<text>") -> FileSpec:
+    if len(text.encode("utf-8", "surrogatepass")) > MAX_FILE_BYTES:
+        raise PresentationFileError(f"file larger than {MAX_FILE_BYTES} bytes", label)
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        raise _toml_error(error, text, label) from None
+    except RecursionError:
+        raise PresentationFileError("TOML nested too deeply", label) from None
+    return _read_spec(data, StringLocator.scan(label, text))
+
+
+def _toml_error(error: Exception, text: str, label: str) -> PresentationFileError:
+    message = str(error)
+    match = re.search(r"\s*\(at line (\d+), column (\d+)\)\s*$", message)
+    if match:
+        return PresentationFileError(f"not valid TOML: {message[:match.start()]}", label,
+                                     int(match.group(1)), int(match.group(2)))
+    match = re.search(r"\s*\(at end of document\)\s*$", message)
+    if match:
+        lines = LineIndex.of(text)
+        line, column = lines.line_col(len(text))
+        return PresentationFileError(f"not valid TOML: {message[:match.start()]}", label,
+                                     line, column)
+    return PresentationFileError(f"not valid TOML: {message}", label)
+
+
+_TOP_KEYS = {
+    "case": ("format", "flavour", "name", "description", "case", "expected_colength",
+             "generators", "relations", "units"),
+    "family": ("format", "flavour", "name", "description", "applies_to", "expected_colength",
+               "generators", "relations", "units"),
+}
+_ENTRY_KEYS = {
+    "generators": ("for", "name", "meaning", "weight", "group"),
+    "relations": ("for", "coefficients", "label", "expr", "group"),
+    "units": ("for", "expr", "group"),
+}
+
+
+def _read_spec(data: dict, locator: StringLocator) -> FileSpec:
+    top = locator.key("")
+    flavour = data.get("flavour")
+    if flavour is None:
+        fail(top, "missing key 'flavour' (\"case\" or \"family\")")
+    if flavour not in _TOP_KEYS:
+        fail(locator.key("flavour"), f"flavour must be \"case\" or \"family\", got {flavour!r}")
+    for key in data:
+        if key not in _TOP_KEYS[flavour]:
+            fail(locator.key(key), f"unknown key {key!r} in a {flavour} file (expected one of "
+                                   f"{', '.join(_TOP_KEYS[flavour])})")
+    version = data.get("format", FORMAT_VERSION)
+    if version != FORMAT_VERSION or isinstance(version, bool):
+        fail(locator.key("format"), f"format must be {FORMAT_VERSION}, got {version!r}")
+    name = _required_string(data, "name", locator)
+    if not NAME_PATTERN.fullmatch(name) or name.endswith(".toml"):
+        fail(locator.key("name"), f"name {name!r} must start with a letter and use only "
+                                  "letters, digits and _ . + - (at most 64 characters)")
+    description = data.get("description", "")
+    if not isinstance(description, str) or "\n" in description.strip():
+        fail(locator.key("description"), "description must be a one-line string")
+    case, applies_to = None, ()
+    if flavour == "case":
+        case_text = _required_string(data, "case", locator)
+        try:
+            case = parse_flag(case_text)
+        except FlagTypeError as error:
+            fail(locator.key("case"), str(error))
+    else:
+        applies_to = _applies_to(data, locator)
+    colength = data.get("expected_colength")
+    if colength is not None:
+        colength = _integer_or_expression(colength, "expected_colength", locator,
+                                          locator.key("expected_colength"))
+    sections = {}
+    for section in ("generators", "relations", "units"):
+        sections[section] = _entries(data.get(section, []), section, locator,
+                                     locator.key(section), 0)
+    if not sections["generators"]:
+        fail(locator.key("generators") if "generators" in data else top,
+             "no generators declared ([[generators]] tables)")
+    if not sections["relations"]:
+        fail(locator.key("relations") if "relations" in data else top,
+             "empty relation list ([[relations]] tables)")
+    at = {key: locator.key(key) for key in data}
+    at[""] = top
+    return FileSpec(locator.file, flavour, name, description.strip(), case, applies_to, colength,
+                    sections["generators"], sections["relations"], sections["units"], at)
+
+
+def _required_string(data: dict, key: str, locator: StringLocator) -> str:
+    if key not in data:
+        fail(locator.key(""), f"missing key {key!r}")
+    value = data[key]
+    if not isinstance(value, str):
+        fail(locator.key(key), f"{key} must be a string")
+    return value
+
+
+def _applies_to(data: dict, locator: StringLocator) -> Tuple[str, ...]:
+    at = locator.key("applies_to")
+    if "applies_to" not in data:
+        fail(locator.key(""), "missing key 'applies_to' (e.g. \"all\", \"grassmannians\", "
+                              "\"complete\", or a list of those and flag types)")
+    raw = data["applies_to"]
+    items = [raw] if isinstance(raw, str) else raw
+    if not isinstance(items, list) or not items or not all(isinstance(x, str) for x in items):
+        fail(at, "applies_to must be a string or a non-empty list of strings")
+    out = []
+    for item in items:
+        word = item.strip()
+        if word in APPLIES_TO_WORDS:
+            out.append(word)
+            continue
+        try:
+            out.append(parse_flag(word).name)
+        except FlagTypeError:
+            fail(at, f"applies_to: {item!r} is neither one of {', '.join(APPLIES_TO_WORDS)} "
+                     "nor a flag type such as Fl(1,3;5)")
+    return tuple(out)
+
+
+def _integer_or_expression(value, key: str, locator: StringLocator, at: Loc):
+    if isinstance(value, bool) or not isinstance(value, (int, str)):
+        fail(at, f"{key} must be an integer or an expression in a string")
+    if isinstance(value, int):
+        return value
+    return parse_expression(locator.source(value, at))
+
+
+def _entries(raw, section: str, locator: StringLocator, at: Loc, depth: int) -> Tuple[Entry, ...]:
+    if depth > MAX_GROUP_DEPTH:
+        fail(at, f"groups nested more than {MAX_GROUP_DEPTH} levels deep")
+    if isinstance(raw, dict):
+        raw = [raw]
+    if not isinstance(raw, list):
+        fail(at, f"{section} must be a list of tables ([[{section}]])")
+    return tuple(_entry(item, section, locator, at, depth) for item in raw)
+
+
+def _entry(item, section: str, locator: StringLocator, at: Loc, depth: int) -> Entry:
+    if isinstance(item, str) and section in ("relations", "units"):
+        item = {"expr": item}
+    if not isinstance(item, dict):
+        fail(at, f"each entry of {section} must be a table" +
+             (" or an expression string" if section != "generators" else ""))
+    start = locator.table_start(item)
+    for key in item:
+        if key not in _ENTRY_KEYS[section]:
+            fail(locator.key_in_table(key, start, at),
+                 f"unknown key {key!r} in {section} (expected one of "
+                 f"{', '.join(_ENTRY_KEYS[section])})")
+    where = Loc(locator.whole, start) if start is not None and start >= 0 else at
+    loops: Tuple[Binding, ...] = ()
+    if "for" in item:
+        loops = parse_bindings(_string_source(item, "for", section, locator, where))
+    if "group" in item:
+        others = [k for k in item if k not in ("for", "group")]
+        if others:
+            fail(where, f"a {section} entry with a group cannot also have {others[0]!r}")
+        group = _entries(item["group"], section, locator, where, depth + 1)
+        if not group:
+            fail(where, f"empty group in {section}")
+        return Entry(loops, None, group, where)
+    return Entry(loops, _declaration(item, section, locator, where, start), (), where)
+
+
+def _string_source(item: dict, key: str, section: str, locator: StringLocator,
+                   where: Loc) -> SourceText:
+    if key not in item:
+        fail(where, f"a {section} entry needs a {key!r} field")
+    value = item[key]
+    if not isinstance(value, str):
+        fail(where, f"{key!r} in {section} must be a string")
+    return locator.source(value, where)
+
+
+def _declaration(item: dict, section: str, locator: StringLocator, where: Loc,
+                 start: Optional[int]) -> Decl:
+    if section == "generators":
+        name = parse_template(_string_source(item, "name", section, locator, where))
+        meaning = parse_meaning(_string_source(item, "meaning", section, locator, where))
+        if "weight" not in item:
+            fail(where, "a generators entry needs a 'weight' (an integer or index expression)")
+        weight_at = locator.key_in_table("weight", start, where)
+        weight = _integer_or_expression(item["weight"], "weight", locator, weight_at)
+        return GeneratorDecl(name, meaning, weight, weight_at)
+    expr_source = _string_source(item, "expr", section, locator, where)
+    if section == "units":
+        return UnitDecl(parse_expression(expr_source))
+    expr = parse_relation(expr_source)
+    coefficients = label = None
+    if "coefficients" in item:
+        coefficients = parse_single_binding(
+            _string_source(item, "coefficients", section, locator, where))
+    if "label" in item:
+        label = parse_template(_string_source(item, "label", section, locator, where))
+    return RelationDecl(expr, coefficients, label)
