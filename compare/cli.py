@@ -14,6 +14,7 @@ from typing import List, Optional
 from presentations import FAMILIES, get_family
 from presentations.flagtype import FlagType, FlagTypeError, parse_flag
 from presentations.interface import PresentationError, build_symbolic
+from presentations.userfile import PresentationFileError
 
 from . import algebra
 
@@ -22,7 +23,7 @@ class UsageError(ValueError):
     """Bad input from the user: reported in one line, exit status 2."""
 
 
-USER_ERRORS = (UsageError, FlagTypeError, PresentationError)
+USER_ERRORS = (UsageError, FlagTypeError, PresentationError, PresentationFileError)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -46,11 +47,19 @@ def presentation_list(text: str) -> List[str]:
         raise argparse.ArgumentTypeError(f"{text!r}: empty name in the list")
     if len(set(names)) != len(names):
         raise argparse.ArgumentTypeError(f"{text!r}: a presentation is named twice")
+    family_names = []
     for name in names:
         try:
-            get_family(name)
+            family_names.append(get_family(name).name)
         except KeyError as error:
             raise argparse.ArgumentTypeError(str(error.args[0])) from None
+        except PresentationFileError as error:   # one line naming file:line:col
+            raise argparse.ArgumentTypeError(str(error)) from None
+    for name, family_name in zip(names, family_names):
+        if family_names.count(family_name) > 1:
+            raise argparse.ArgumentTypeError(
+                f"{text!r}: two presentations are called {family_name!r} ({name} is one); "
+                "rename one (the name field of a presentation file)")
     return names
 
 
@@ -106,6 +115,25 @@ def cmd_check(args) -> int:
     return 0
 
 
+def cmd_presentations(args) -> int:
+    from presentations import plugins, userfile
+    if args.case_file is not None:
+        family = resolve_family(args.of)
+        print(userfile.case_file_text(family, args.case_file, equivariant=not args.plain), end="")
+        return 0
+    lines = plugins.catalogue(FAMILIES, userfile.shipped_files())
+    if args.json:
+        print(json.dumps([line.__dict__ for line in lines], indent=2))
+        return 0
+    width = max(len(line.name) for line in lines)
+    source_width = max(len(line.source) for line in lines)
+    for line in lines:
+        print(f"{line.name:<{width}}  {line.source:<{source_width}}  {line.description}")
+    print(f"\nPlug-ins: entry-point group {plugins.ENTRY_POINT_GROUP!r}; files: any path to a "
+          ".toml presentation file (docs/presentation-files.md).")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="ringmatch",
                      description="Compare presentations of quantum K-theory rings of flag varieties.")
@@ -128,6 +156,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.set_defaults(run=cmd_check)
+
+    p = sub.add_parser("presentations",
+                       help="list built-in, shipped and plug-in presentations, or write one "
+                            "out as a case file")
+    p.add_argument("--case-file", type=flag_argument, metavar="CASE",
+                   help="instead of the list, print the presentation --of NAME for this flag "
+                        "type as an editable case file")
+    p.add_argument("--of", default="whitney", metavar="NAME",
+                   help="presentation written by --case-file (name or file); default whitney")
+    p.add_argument("--plain", action="store_true", help="with --case-file: all T_j = 1")
+    p.add_argument("--json", action="store_true", help="the list as JSON")
+    p.set_defaults(run=cmd_presentations)
     return parser
 
 

@@ -11,7 +11,19 @@ FAMILIES = {family.name: family for family in (whitney.FAMILY, vieta.FAMILY, vie
 
 
 def get_family(name: str) -> Family:
-    try:
+    """A built-in family, a presentation file (a path: ends in .toml or contains a path
+    separator; see docs/presentation-files.md), a shipped file by name, or a plug-in family
+    (entry-point group `ringmatch.presentations`).  File problems raise
+    `userfile.PresentationFileError`; an unknown name raises KeyError."""
+    from . import plugins, userfile
+    if userfile.looks_like_path(name):
+        return userfile.load_family(name)
+    if name in FAMILIES:
         return FAMILIES[name]
-    except KeyError:
-        raise KeyError(f"unknown presentation {name!r}; known: {', '.join(sorted(FAMILIES))}") from None
+    family = userfile.shipped_family(name) or plugins.find_plugin(name)
+    if family is not None:
+        return family
+    known = sorted(FAMILIES) + sorted(userfile.shipped_files()) + \
+        sorted(e.family.name for e in plugins.discovered() if e.family is not None)
+    raise KeyError(f"unknown presentation {name!r}; known: {', '.join(known)}, "
+                   "or a path to a .toml presentation file")
