@@ -1,0 +1,344 @@
+"""Gröbner bases over F_p for python-flint `nmod_mpoly` polynomials.
+
+All polynomials of one computation live in one `nmod_mpoly_ctx`; the context's ordering
+('degrevlex', 'deglex' or 'lex') is the monomial order.  The algorithm is Buchberger's with
+the sugar selection strategy and the Gebauer–Möller criteria.  Every reduction is done by
+FLINT's own single-divisor division: for nmod_mpoly, `f % g` returns a remainder none of
+whose terms is divisible by LM(g) (checked in tests/test_groebner.py), so repeating it over
+the basis until nothing changes gives a fully reduced normal form without any Python loop
+over coefficients.
+
+Exponent vectors are plain tuples; `order_key` turns one into a Python sort key that agrees
+with the context's ordering, so the pair queue and the output sorting can be done in Python
+without building polynomials.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, Dict, List, Optional, Sequence, Tuple
+
+Monomial = Tuple[int, ...]
+
+
+class NotZeroDimensional(ValueError):
+    """The quotient ring is infinite-dimensional: some variable has no pure power among
+    the leading monomials."""
+
+
+class LimitExceeded(ValueError):
+    """More standard monomials than the caller allowed."""
+
+
+# ---------------------------------------------------------------------------------------
+# Monomials
+
+def leading_monomial(f) -> Monomial:
+    """Exponent vector of the leading term of f in its context's order."""
+    if f.is_zero():
+        raise ValueError("the zero polynomial has no leading monomial")
+    return f.monomial(0)
+
+
+def ordering_name(ctx) -> str:
+    return ctx.ordering().value
+
+
+def order_key(ordering: str) -> Callable[[Monomial], tuple]:
+    """Sort key on exponent vectors that is increasing in the given monomial order."""
+    if ordering == "lex":
+        return tuple
+    if ordering == "deglex":
+        return lambda e: (sum(e), e)
+    if ordering == "degrevlex":
+        return lambda e: (sum(e), tuple(-x for x in reversed(e)))
+    raise ValueError(f"unsupported monomial ordering {ordering!r}")
+
+
+def divides(a: Monomial, b: Monomial) -> bool:
+    return all(x <= y for x, y in zip(a, b))
+
+
+def lcm(a: Monomial, b: Monomial) -> Monomial:
+    return tuple(max(x, y) for x, y in zip(a, b))
+
+
+def coprime(a: Monomial, b: Monomial) -> bool:
+    return all(x == 0 or y == 0 for x, y in zip(a, b))
+
+
+def quotient(a: Monomial, b: Monomial) -> Monomial:
+    return tuple(x - y for x, y in zip(a, b))
+
+
+# ---------------------------------------------------------------------------------------
+# Reduction
+
+def monic(f):
+    lc = f.leading_coefficient()
+    return f if int(lc) == 1 else f * (1 / lc)
+
+
+def reduce_fully(f, divisors: Sequence) -> object:
+    """Remainder of f on division by `divisors`: no term divisible by any of their LMs.
+
+    One pass divides by each divisor in turn; a later division can bring back terms
+    divisible by an earlier divisor, so passes repeat until one changes nothing."""
+    while True:
+        changed = False
+        for g in divisors:
+            if f.is_zero():
+                return f
+            r = f % g
+            if r != f:
+                f, changed = r, True
+        if not changed:
+            return f
+
+
+def normal_form(f, basis: Sequence):
+    """Fully reduced normal form of f with respect to `basis` (a Gröbner basis)."""
+    return reduce_fully(f, [g for g in basis if not g.is_zero()])
+
+
+def is_member(f, basis: Sequence) -> bool:
+    """Whether f lies in the ideal of which `basis` is a Gröbner basis."""
+    return normal_form(f, basis).is_zero()
+
+
+# ---------------------------------------------------------------------------------------
+# Buchberger with sugar and Gebauer–Möller
+
+@dataclass
+class _Pair:
+    i: int
+    j: int
+    lcm: Monomial
+    sugar: int
+
+
+@dataclass
+class _State:
+    polys: List            # every basis element ever added (monic); pairs index into it
+    lms: List[Monomial]
+    sugars: List[int]
+    active: List[int]      # indices whose LM is not a multiple of a later LM
+    pairs: List[_Pair]
+
+
+def _pair_sugar(state: _State, i: int, j: int, l: Monomial) -> int:
+    d = sum(l)
+    return max(state.sugars[i] - sum(state.lms[i]), state.sugars[j] - sum(state.lms[j])) + d
+
+
+def _add_to_basis(state: _State, h, sugar: int) -> None:
+    """Gebauer–Möller update (Becker–Weispfenning, Gröbner Bases, 1993, §5.5)."""
+    k = len(state.polys)
+    lm_h = leading_monomial(h)
+    state.polys.append(h)
+    state.lms.append(lm_h)
+    state.sugars.append(sugar)
+
+    candidates = [(g, lcm(lm_h, state.lms[g])) for g in state.active]
+    kept = []
+    for idx, (g, l) in enumerate(candidates):
+        if coprime(lm_h, state.lms[g]):
+            kept.append((g, l))
+            continue
+        others = candidates[idx + 1:] + kept
+        if not any(divides(l2, l) for _, l2 in others):
+            kept.append((g, l))
+    new_pairs = [_Pair(g, k, l, _pair_sugar(state, g, k, l))
+                 for g, l in kept if not coprime(lm_h, state.lms[g])]
+
+    def survives(p: _Pair) -> bool:
+        if not divides(lm_h, p.lcm):
+            return True
+        return lcm(state.lms[p.i], lm_h) == p.lcm or lcm(lm_h, state.lms[p.j]) == p.lcm
+    state.pairs = [p for p in state.pairs if survives(p)] + new_pairs
+    state.active = [g for g in state.active if not divides(lm_h, state.lms[g])] + [k]
+
+
+def _s_polynomial(state: _State, pair: _Pair):
+    ctx = state.polys[pair.i].context()
+    left = ctx.term(1, quotient(pair.lcm, state.lms[pair.i])) * state.polys[pair.i]
+    right = ctx.term(1, quotient(pair.lcm, state.lms[pair.j])) * state.polys[pair.j]
+    return left - right
+
+
+def _select(pairs: List[_Pair], key) -> _Pair:
+    best = min(range(len(pairs)), key=lambda t: (pairs[t].sugar, key(pairs[t].lcm)))
+    return pairs.pop(best)
+
+
+def _buchberger(polys: List) -> List:
+    """A (not yet reduced) Gröbner basis of the nonzero, monic input."""
+    key = order_key(ordering_name(polys[0].context()))
+    state = _State([], [], [], [], [])
+    for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
+        h = reduce_fully(f, [state.polys[a] for a in state.active])
+        if not h.is_zero():
+            _add_to_basis(state, monic(h), f.total_degree())
+    while state.pairs:
+        pair = _select(state.pairs, key)
+        h = reduce_fully(_s_polynomial(state, pair), [state.polys[a] for a in state.active])
+        if h.is_zero():
+            continue
+        if h.is_constant():
+            return [h.context().constant(1)]
+        _add_to_basis(state, monic(h), pair.sugar)
+    return [state.polys[a] for a in state.active]
+
+
+def _inter_reduce(basis: List, key) -> List:
+    """Reduced Gröbner basis from a Gröbner basis: drop redundant elements, reduce tails."""
+    basis = sorted(basis, key=lambda f: key(leading_monomial(f)))
+    lms = [leading_monomial(g) for g in basis]
+    minimal = [g for t, g in enumerate(basis)
+               if not any(divides(lms[s], lms[t]) for s in range(t))]
+    out = []
+    for t, g in enumerate(minimal):
+        others = minimal[:t] + minimal[t + 1:]
+        out.append(monic(reduce_fully(g, others)))
+    return out
+
+
+def groebner_basis(polys: Sequence) -> List:
+    """Reduced Gröbner basis of the ideal generated by `polys`, in their context's order.
+
+    Monic, inter-reduced, sorted by leading monomial ascending; [] for the zero ideal and
+    [1] for the unit ideal."""
+    nonzero = [f for f in polys if not f.is_zero()]
+    if not nonzero:
+        return []
+    ctx = nonzero[0].context()
+    for f in nonzero:
+        if f.context() is not ctx:
+            raise ValueError("all polynomials must belong to the same nmod_mpoly context")
+    if any(f.is_constant() for f in nonzero):
+        return [ctx.constant(1)]
+    key = order_key(ordering_name(ctx))
+    basis = _buchberger([monic(f) for f in nonzero])
+    if len(basis) == 1 and basis[0].is_constant():
+        return basis
+    return _inter_reduce(basis, key)
+
+
+# ---------------------------------------------------------------------------------------
+# The quotient ring
+
+def _leading_monomials(basis: Sequence) -> List[Monomial]:
+    return [leading_monomial(g) for g in basis if not g.is_zero()]
+
+
+def _nvars(basis: Sequence) -> int:
+    return basis[0].context().nvars()
+
+
+def _pure_power_bounds(lms: Sequence[Monomial], nvars: int) -> List[Optional[int]]:
+    """For each variable, the smallest exponent a with x^a among the leading monomials."""
+    bounds: List[Optional[int]] = [None] * nvars
+    for e in lms:
+        support = [v for v, x in enumerate(e) if x]
+        if len(support) == 1:
+            v = support[0]
+            bounds[v] = e[v] if bounds[v] is None else min(bounds[v], e[v])
+    return bounds
+
+
+def _is_unit_ideal(basis: Sequence) -> bool:
+    return any(g.is_constant() and not g.is_zero() for g in basis)
+
+
+def is_zero_dimensional(basis: Sequence) -> bool:
+    """Whether the quotient by the ideal of the Gröbner basis `basis` is finite-dimensional
+    (every variable has a pure power among the leading monomials; true for the unit ideal)."""
+    basis = [g for g in basis if not g.is_zero()]
+    if not basis:
+        return False
+    if _is_unit_ideal(basis):
+        return True
+    return all(b is not None for b in _pure_power_bounds(_leading_monomials(basis), _nvars(basis)))
+
+
+def standard_monomials(basis: Sequence, limit: Optional[int] = None) -> List[Monomial]:
+    """Exponent vectors of the monomials not divisible by any leading monomial, in
+    ascending order.  Raises NotZeroDimensional if there are infinitely many, LimitExceeded
+    if more than `limit`."""
+    basis = [g for g in basis if not g.is_zero()]
+    if not basis:
+        raise NotZeroDimensional("the zero ideal has an infinite-dimensional quotient")
+    if _is_unit_ideal(basis):
+        return []
+    lms = _leading_monomials(basis)
+    nvars = _nvars(basis)
+    bounds = _pure_power_bounds(lms, nvars)
+    if any(b is None for b in bounds):
+        missing = [basis[0].context().name(v) for v, b in enumerate(bounds) if b is None]
+        raise NotZeroDimensional(f"no pure power of {', '.join(missing)} among leading monomials")
+    found: List[Monomial] = []
+
+    def extend(prefix: Tuple[int, ...]) -> None:
+        # depth-first over exponent vectors; every prefix of a standard monomial (padded
+        # with zeros) is standard, so a divisible prefix prunes its whole subtree
+        v = len(prefix)
+        if v == nvars:
+            found.append(prefix)
+            if limit is not None and len(found) > limit:
+                raise LimitExceeded(f"more than {limit} standard monomials")
+            return
+        for a in range(bounds[v]):
+            candidate = prefix + (a,)
+            padded = candidate + (0,) * (nvars - v - 1)
+            if any(divides(e, padded) for e in lms):
+                break
+            extend(candidate)
+
+    extend(())
+    key = order_key(ordering_name(basis[0].context()))
+    return sorted(found, key=key)
+
+
+def _count_outside(generators: frozenset, bounds: Tuple[int, ...],
+                   memo: Dict) -> int:
+    """Number of monomials in len(bounds) variables, exponent v below bounds[v], that are
+    not multiples of any monomial in `generators` (tuples of the same length).
+
+    Splits on the last variable: a monomial with last exponent a avoids the ideal iff its
+    other exponents avoid the generators whose last exponent is at most a."""
+    if any(all(x == 0 for x in g) for g in generators):
+        return 0
+    if not bounds:
+        return 1
+    state = (generators, bounds)
+    if state in memo:
+        return memo[state]
+    total = 0
+    for a in range(bounds[-1]):
+        below = frozenset(g[:-1] for g in generators if g[-1] <= a)
+        total += _count_outside(_minimal(below), bounds[:-1], memo)
+    memo[state] = total
+    return total
+
+
+def _minimal(monomials: frozenset) -> frozenset:
+    items = sorted(monomials, key=sum)
+    kept: List[Monomial] = []
+    for e in items:
+        if not any(divides(k, e) for k in kept):
+            kept.append(e)
+    return frozenset(kept)
+
+
+def colength(basis: Sequence) -> Optional[int]:
+    """Dimension over F_p of the quotient by the ideal of the Gröbner basis `basis`; None
+    when it is infinite.  Counted by splitting on variables, not by listing monomials."""
+    basis = [g for g in basis if not g.is_zero()]
+    if not basis:
+        return None
+    if _is_unit_ideal(basis):
+        return 0
+    lms = _leading_monomials(basis)
+    bounds = _pure_power_bounds(lms, _nvars(basis))
+    if any(b is None for b in bounds):
+        return None
+    return _count_outside(_minimal(frozenset(lms)), tuple(bounds), {})
