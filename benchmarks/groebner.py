@@ -1,0 +1,97 @@
+"""Speed of compare/groebner.py against SymPy's `groebner` on the Whitney ideals.
+
+    python benchmarks/groebner.py [--quick] [--sympy-timeout SECONDS] [--seed N]
+
+Each case is the quantum K Whitney ideal at one fixed random specialisation, mod
+2^62 − 57, in degrevlex.  SymPy runs on the same polynomials in a child process (so that a
+timeout can stop it); the ratio column is SymPy's time over ours, measured in this run.
+"""
+from __future__ import annotations
+
+import argparse
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+from tabulate import tabulate
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from compare import algebra, groebner  # noqa: E402
+from presentations import whitney  # noqa: E402
+from presentations.flagtype import parse_flag  # noqa: E402
+from presentations.interface import build_specialised  # noqa: E402
+
+CASES = ["Gr(2,5)", "Gr(3,6)", "Fl(4)", "Fl(1,3;5)", "Gr(4,8)", "Fl(5)", "Gr(5,10)", "Fl(6)"]
+QUICK_CASES = 4
+
+
+def whitney_relations(case: str, seed: int):
+    flag = parse_flag(case)
+    spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed)
+    presentation = build_specialised(whitney.FAMILY, flag, spec, ordering="degrevlex")
+    return flag, [r.poly for r in presentation.relations]
+
+
+def time_ours(case: str, seed: int):
+    flag, relations = whitney_relations(case, seed)
+    start = time.perf_counter()
+    basis = groebner.groebner_basis(relations)
+    elapsed = time.perf_counter() - start
+    return flag.rank, groebner.colength(basis), elapsed
+
+
+def sympy_worker(case: str, seed: int) -> None:
+    """Child-process side: print SymPy's time for one case."""
+    import sympy
+    _, relations = whitney_relations(case, seed)
+    ctx = relations[0].context()
+    gens = sympy.symbols(ctx.names())
+    p = ctx.modulus()
+    polys = [sympy.Poly.from_dict({m: int(c) for m, c in zip(f.monoms(), f.coeffs())}, *gens,
+                                  modulus=p) for f in relations]
+    start = time.perf_counter()
+    sympy.groebner(polys, *gens, modulus=p, order="grevlex")
+    print(time.perf_counter() - start)
+
+
+def time_sympy(case: str, seed: int, timeout: float):
+    command = [sys.executable, __file__, "--sympy-worker", case, "--seed", str(seed)]
+    try:
+        done = subprocess.run(command, capture_output=True, text=True, timeout=timeout,
+                              check=True)
+    except subprocess.TimeoutExpired:
+        return None
+    return float(done.stdout.strip().splitlines()[-1])
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--quick", action="store_true",
+                        help=f"only the first {QUICK_CASES} cases")
+    parser.add_argument("--sympy-timeout", type=float, default=300.0, metavar="SECONDS")
+    parser.add_argument("--seed", type=int, default=2024)
+    parser.add_argument("--sympy-worker", metavar="CASE", help=argparse.SUPPRESS)
+    args = parser.parse_args(argv)
+    if args.sympy_worker:
+        sympy_worker(args.sympy_worker, args.seed)
+        return 0
+
+    rows = []
+    for case in CASES[:QUICK_CASES] if args.quick else CASES:
+        rank, length, ours = time_ours(case, args.seed)
+        reference = time_sympy(case, args.seed, args.sympy_timeout)
+        rows.append([case, rank, length, f"{ours:.3f}",
+                     f"> {args.sympy_timeout:g}" if reference is None else f"{reference:.3f}",
+                     f"> {args.sympy_timeout / ours:.0f}" if reference is None
+                     else f"{reference / ours:.1f}"])
+        print(f"  done {case}", file=sys.stderr, flush=True)
+    print(tabulate(rows, headers=["case", "rank", "colength", "ours (s)", "SymPy (s)",
+                                  "SymPy / ours"], disable_numparse=True))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
