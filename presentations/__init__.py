@@ -3,11 +3,11 @@
 Each family lives in its own module and exposes one `Family` record (see `interface`).
 `FAMILIES` maps the names used on the command line to those records.
 """
-from . import toda, vieta, whitney
+from . import bethe, toda, vieta, whitney
 from .interface import Family
 
 FAMILIES = {family.name: family for family in (whitney.FAMILY, vieta.FAMILY, vieta.ELIMINATED,
-                                                   toda.FAMILY)}
+                                                   toda.FAMILY, bethe.FAMILY)}
 
 
 def get_family(name: str) -> Family:

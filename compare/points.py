@@ -1,0 +1,723 @@
+"""Bethe points (DESIGN.md §2.3): torus-fixed points lifted to power series, and "holds".
+
+**Equations.**  For a Chern root x = X^(i)_a at level i (X^(m+1) = the weights T), the
+critical-point equation of §2.2 multiplied by x^{k_{i+1}} reads
+
+    ∏_b (x − X^(i+1)_b) + (−1)^{d_i} q_i (det S_{i+1}/det S_i) x^{k_i − k_{i−1}} ∏_c (x − X^(i−1)_c) = 0
+
+(write (1 − X/x) = (x − X)/x and collect the powers of x: the right-hand side of §2.2 picks up
+x^{k_{i+1} − d_i − k_{i−1}}).  For P^{n−1} it becomes ∏_j (x − T_j) = (−1)^n q T_1⋯T_n, that
+is ∏_j (1 − x/T_j) = q.
+
+**Specialisation.**  T_j are residues mod p and q_i = c_i·s, so every point lies in
+F_p[[s]]; a point is kept to order N (N coefficients per root).
+
+**Lifting.**  At s = 0 a fixed point I_1 ⊂ … ⊂ I_m gives X^(i) = {T_j : j ∈ I_i}.  There the
+Jacobian is block triangular: the row of a root x = T_j at level i has ∏_{b≠b*}(T_j − X_b)
+on the diagonal, its negative in the column of the level-(i+1) root b* that also equals T_j,
+and nothing else (the q-term is O(s)).  It is invertible exactly when the weights are
+distinct, and its inverse is read off the chains of equal weights.  Newton's iteration then
+doubles the precision at every step; the inverse Jacobian, kept as a list of coefficient
+matrices B_0, B_1, … (B = Σ B_t s^t), is doubled alongside by Schulz's iteration
+B ← B + B(I − J B), so no matrix is ever inverted after s = 0.
+
+**Values and holds.**  Generators are evaluated through their meanings (λ_y(S_i), λ_y(Q_i),
+the Vieta roots, Toda ratios, Chern roots), relations are evaluated at every point, and a
+presentation "holds" when every relation vanishes mod s^N at every point and every unit is
+nonzero at s = 0 there.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Dict, Iterable, List, Optional, Sequence, Tuple
+
+import flint
+
+from presentations.flagtype import FixedPoint, FlagType
+from presentations.interface import Family, Generator, Presentation, build_series
+from presentations.meanings import Meaning
+
+from . import algebra
+from . import series as ps
+from .series import Series
+
+
+class LiftError(ArithmeticError):
+    """The fixed points cannot be lifted (or a lifted point failed its final check)."""
+
+
+class SingularJacobian(LiftError):
+    """The Jacobian of the Bethe equations is singular at a fixed point (s = 0)."""
+
+
+@dataclass(frozen=True)
+class LiftedPoint:
+    fixed_point: FixedPoint
+    # roots[i-1][a] = X^(i)_{a+1}; the roots of a level are ordered so that their constant
+    # terms are T_j for increasing j in I_i.
+    roots: Tuple[Tuple[Series, ...], ...]
+
+
+@dataclass(frozen=True)
+class BethePoints:
+    flag: FlagType
+    spec: algebra.Specialisation
+    order: int
+    points: Tuple[LiftedPoint, ...]
+    notes: Tuple[str, ...] = ()
+
+    def record(self) -> dict:
+        return {"case": self.flag.name, "prime": self.spec.prime, "weights": list(self.spec.T),
+                "q_line": list(self.spec.q_line), "order": self.order, "seed": self.spec.seed,
+                "notes": list(self.notes),
+                "points": [point_record(p, self.order) for p in self.points]}
+
+
+def point_record(point: LiftedPoint, order: int) -> dict:
+    return {"fixed_point": [list(I) for I in point.fixed_point],
+            "roots": [[ps.coefficients(x, order) for x in level] for level in point.roots]}
+
+
+# ---------------------------------------------------------------------------------------
+# Setup shared by all points of one flag and specialisation
+
+@dataclass(frozen=True)
+class _Setup:
+    flag: FlagType
+    prime: int
+    weights: Tuple[int, ...]
+    top: Tuple[Series, ...]             # the weights as constant series: level m+1
+    q_term_slope: Tuple[int, ...]       # (−1)^{d_i}·c_i for q_i = c_i s, levels 1…m
+    q_slope: Tuple[int, ...]            # c_i
+    offsets: Tuple[int, ...]            # position of level i's first root in the flat vector
+    size: int                           # number of unknowns, Σ k_i
+
+
+def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
+    p = spec.prime
+    if spec.q_line is None:
+        raise ValueError("Bethe points need q on a line (Specialisation.q_line)")
+    if len(spec.T) != flag.n:
+        raise ValueError(f"{flag.name} needs {flag.n} weights, got {len(spec.T)}")
+    if len(spec.q_line) != flag.m:
+        raise ValueError(f"{flag.name} needs {flag.m} q-line coefficients, got {len(spec.q_line)}")
+    check_weights(spec.T, p)
+    offsets, total = [], 0
+    for i in range(1, flag.m + 1):
+        offsets.append(total)
+        total += flag.k(i)
+    weights = tuple(t % p for t in spec.T)
+    return _Setup(flag, p, weights, tuple(ps.constant(t, p) for t in weights),
+                  tuple(((-1) ** flag.d(i) * spec.q_line[i - 1]) % p for i in range(1, flag.m + 1)),
+                  tuple(c % p for c in spec.q_line), tuple(offsets), total)
+
+
+def check_weights(weights: Sequence[int], prime: int) -> None:
+    """Raise `SingularJacobian` unless the weights are nonzero and pairwise distinct mod p.
+
+    Equal weights make the Jacobian at the fixed points singular (two roots collide); a zero
+    weight makes det S_i vanish, and it must be a unit."""
+    seen: Dict[int, int] = {}
+    for j, t in enumerate(weights, start=1):
+        r = t % prime
+        if r == 0:
+            raise SingularJacobian(f"weight T_{j} = {t} is 0 mod {prime}: det S_i would not be a unit")
+        if r in seen:
+            raise SingularJacobian(f"weights T_{seen[r]} and T_{j} are equal mod {prime}: "
+                                   "the Jacobian of the Bethe equations is singular at the fixed points")
+        seen[r] = j
+
+
+# ---------------------------------------------------------------------------------------
+# The equations and their Jacobian
+
+def _levels(setup: _Setup, roots: Sequence[Sequence[Series]]) -> List[Sequence[Series]]:
+    """Levels 0…m+1 of Chern roots: level 0 empty, level m+1 the weights."""
+    return [()] + list(roots) + [setup.top]
+
+
+def _det_ratios(setup: _Setup, levels, order: int) -> List[Series]:
+    """D_i = det S_{i+1} / det S_i for i = 1…m (index i−1), to the given order."""
+    dets = [ps.product(level, order, setup.prime) for level in levels[1:]]
+    return [dets[i].mul_low(ps.inverse(dets[i - 1], order), order) for i in range(1, len(dets))]
+
+
+def _q_cofactors(setup: _Setup, levels, order: int) -> List[Series]:
+    """(−1)^{d_i} c_i D_i to order − 1: the q-term is s times this (times x^e ∏(x − X^(i−1)))."""
+    if order <= 1:
+        return [ps.constant(0, setup.prime)] * setup.flag.m
+    ratios = _det_ratios(setup, levels, order - 1)
+    return [r * c for r, c in zip(ratios, setup.q_term_slope)]
+
+
+def residuals(setup: _Setup, roots: Sequence[Sequence[Series]], order: int) -> List[Series]:
+    """The cleared Bethe equations at the given roots, one per root (flat order), mod s^order."""
+    flag, levels = setup.flag, _levels(setup, roots)
+    cofactors = _q_cofactors(setup, levels, order)
+    out = []
+    for i in range(1, flag.m + 1):
+        above, below = levels[i + 1], levels[i - 1]
+        e = flag.k(i) - flag.k(i - 1)
+        for x in levels[i]:
+            a = x - above[0]
+            for X in above[1:]:
+                a = a.mul_low(x - X, order)
+            if order > 1:
+                q = cofactors[i - 1].mul_low(x.pow_trunc(e, order - 1), order - 1)
+                for X in below:
+                    q = q.mul_low(x - X, order - 1)
+                a = a + q.left_shift(1)
+            out.append(a.truncate(order))
+    return out
+
+
+def _products_without_one(factors: Sequence[Series], order: int, prime: int) -> List[Series]:
+    """[∏_{c≠b} f_c for each b], by prefix and suffix products (no division: f_b may vanish
+    at s = 0)."""
+    k = len(factors)
+    prefix = [ps.constant(1, prime)]
+    for f in factors[:-1]:
+        prefix.append(prefix[-1].mul_low(f, order))
+    out = [None] * k
+    suffix = ps.constant(1, prime)
+    for b in range(k - 1, -1, -1):
+        out[b] = prefix[b].mul_low(suffix, order)
+        suffix = suffix.mul_low(factors[b], order)
+    return out
+
+
+def jacobian_entries(setup: _Setup, roots: Sequence[Sequence[Series]], order: int):
+    """Nonzero entries (row, column, series mod s^order) of the Jacobian of `residuals`.
+
+    Row of x = X^(i)_a, with A = ∏_b (x − X^(i+1)_b), C = ∏_c (x − X^(i−1)_c),
+    K = (−1)^{d_i} q_i D_i x^e and the q-term Q = K·C:
+      ∂/∂x          = Σ_b A/(x − X_b) + K Σ_c C/(x − X_c) + (e − 1) Q/x
+      ∂/∂X^(i)_a'   = −Q / X^(i)_a'                       (through det S_i)
+      ∂/∂X^(i+1)_b  = −A/(x − X_b) + Q / X^(i+1)_b        (the factor and det S_{i+1})
+      ∂/∂X^(i−1)_c  = −K C/(x − X_c)
+    """
+    flag, p, levels = setup.flag, setup.prime, _levels(setup, roots)
+    cofactors = _q_cofactors(setup, levels, order)
+    low = order - 1   # precision of the s-cofactors of q-terms
+    inverses = [[ps.inverse(x, low) if low > 0 else None for x in level] for level in roots]
+    entries = []
+    for i in range(1, flag.m + 1):
+        above, below = levels[i + 1], levels[i - 1]
+        e = flag.k(i) - flag.k(i - 1)
+        base = setup.offsets[i - 1]
+        above_base = setup.offsets[i] if i < flag.m else None
+        below_base = setup.offsets[i - 2] if i > 1 else None
+        for a, x in enumerate(levels[i]):
+            row = base + a
+            partial_above = _products_without_one([x - X for X in above], order, p)
+            diagonal = partial_above[0]
+            for term in partial_above[1:]:
+                diagonal = diagonal + term
+            column_terms: Dict[int, Series] = {}
+            if above_base is not None:
+                for b, term in enumerate(partial_above):
+                    column_terms[above_base + b] = -term
+            if low > 0:
+                K = cofactors[i - 1].mul_low(x.pow_trunc(e, low), low)
+                partial_below = _products_without_one([x - X for X in below], low, p)
+                C = partial_below[0].mul_low(x - below[0], low) if below else ps.constant(1, p)
+                Q = K.mul_low(C, low)
+                derivative = Q.mul_low(inverses[i - 1][a], low) * (e - 1)
+                for c, term in enumerate(partial_below):
+                    KC = K.mul_low(term, low)
+                    derivative = derivative + KC
+                    column_terms[below_base + c] = (-KC).left_shift(1)
+                diagonal = diagonal + derivative.left_shift(1)
+                for a2 in range(len(levels[i])):
+                    if a2 != a:
+                        column_terms[base + a2] = (-Q.mul_low(inverses[i - 1][a2], low)).left_shift(1)
+                if above_base is not None:
+                    for b in range(len(above)):
+                        column_terms[above_base + b] = column_terms[above_base + b] + \
+                            Q.mul_low(inverses[i][b], low).left_shift(1)
+            entries.append((row, row, diagonal))
+            entries.extend((row, column, term) for column, term in column_terms.items())
+    return entries
+
+
+# ---------------------------------------------------------------------------------------
+# Newton lifting
+
+def _precision_schedule(order: int) -> List[int]:
+    """Precisions after each Newton step: …, ⌈N/4⌉, ⌈N/2⌉, N (each at most twice the last)."""
+    steps = []
+    while order > 1:
+        steps.append(order)
+        order = (order + 1) // 2
+    return steps[::-1]
+
+
+def _initial_inverse(setup: _Setup, fixed_point: FixedPoint):
+    """B_0 = J(s = 0)^{-1}, read off the chains of equal weights (see the module notes)."""
+    flag, p, T = setup.flag, setup.prime, setup.weights
+    inverse = flint.nmod_mat(setup.size, setup.size, p)
+    chains: Dict[int, List[Tuple[int, int]]] = {}   # weight index j → [(row, 1/diagonal)], top level first
+    for i in range(flag.m, 0, -1):
+        above = fixed_point[i] if i < flag.m else tuple(range(1, flag.n + 1))
+        for a, j in enumerate(fixed_point[i - 1]):
+            diagonal = 1
+            for j2 in above:
+                if j2 != j:
+                    diagonal = diagonal * (T[j - 1] - T[j2 - 1]) % p
+            if diagonal == 0:
+                raise SingularJacobian(f"the Jacobian is singular at the fixed point {fixed_point}")
+            row = setup.offsets[i - 1] + a
+            chain = chains.setdefault(j, [])
+            chain.append((row, pow(diagonal, -1, p)))
+            # x^(i) − x^(i+1) − … telescopes: the row's solution picks up every level above it
+            for column, inverse_diagonal in chain:
+                inverse[row, column] = inverse_diagonal
+    return inverse
+
+
+def _coefficient_matrices(entries, rows: int, columns: int, precision: int, prime: int, first: int):
+    """The coefficient matrices M_t (first ≤ t < precision) of a matrix of series."""
+    mats = [flint.nmod_mat(rows, columns, prime) for _ in range(first, precision)]
+    for row, column, value in entries:
+        for t, c in enumerate(value.coeffs()[first:precision]):
+            if c != 0:
+                mats[t][row, column] = c
+    return mats
+
+
+def _schulz_step(setup: _Setup, roots, inverse: List, J0, precision: int) -> List:
+    """Double the precision of B ≈ J^{-1}: B + B(I − J B), with J at the current roots."""
+    known = len(inverse)
+    J = [J0] + _coefficient_matrices(jacobian_entries(setup, roots, precision), setup.size,
+                                     setup.size, precision, setup.prime, 1)
+    # I − J B vanishes below s^known; its coefficients E_t for known ≤ t < precision:
+    E = {}
+    for t in range(known, precision):
+        total = None
+        for a in range(max(0, t - known + 1), t + 1):
+            term = J[a] * inverse[t - a]
+            total = term if total is None else total + term
+        E[t] = -total
+    new = list(inverse)
+    for t in range(known, precision):
+        total = None
+        for b in range(known, t + 1):
+            term = inverse[t - b] * E[b]
+            total = term if total is None else total + term
+        new.append(total)
+    return new
+
+
+def _jacobian_at_zero(setup: _Setup, fixed_point: FixedPoint):
+    roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
+    return _coefficient_matrices(jacobian_entries(setup, roots, 1), setup.size, setup.size,
+                                 1, setup.prime, 0)[0]
+
+
+def _newton_correction(setup: _Setup, inverse: List, values: List[Series], shift: int,
+                       precision: int) -> List[Series]:
+    """B·(F / s^shift) mod s^precision, for F = values (which vanish below s^shift)."""
+    u, p = setup.size, setup.prime
+    flat = []
+    for v in values:
+        cs = v.coeffs()[shift:shift + precision]
+        flat.extend(cs)
+        flat.extend([0] * (precision - len(cs)))
+    G = flint.nmod_mat(u, precision, flat, p)
+    total = inverse[0] * G
+    for a in range(1, precision):
+        total = total + inverse[a] * G * _shift_matrix(a, precision, p)
+    entries = total.entries()
+    return [flint.nmod_poly(entries[r * precision:(r + 1) * precision], p) for r in range(u)]
+
+
+_SHIFTS: Dict[Tuple[int, int, int], object] = {}
+
+
+def _shift_matrix(a: int, size: int, prime: int):
+    """Right-multiplying by it moves column t to column t + a (multiplication by s^a)."""
+    key = (a, size, prime)
+    if key not in _SHIFTS:
+        m = flint.nmod_mat(size, size, prime)
+        for t in range(size - a):
+            m[t, t + a] = 1
+        _SHIFTS[key] = m
+    return _SHIFTS[key]
+
+
+def _split_levels(setup: _Setup, flat: Sequence[Series]) -> List[List[Series]]:
+    return [list(flat[o:o + setup.flag.k(i + 1)]) for i, o in enumerate(setup.offsets)]
+
+
+def lift_point(setup: _Setup, fixed_point: FixedPoint, order: int) -> LiftedPoint:
+    roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
+    inverse = [_initial_inverse(setup, fixed_point)]
+    J0 = None
+    precision = 1
+    for target in _precision_schedule(order):
+        need = target - precision
+        while len(inverse) < need:
+            if J0 is None:
+                J0 = _jacobian_at_zero(setup, fixed_point)
+            inverse = _schulz_step(setup, roots, inverse, J0, min(2 * len(inverse), need))
+        values = residuals(setup, roots, target)
+        correction = _newton_correction(setup, inverse, values, precision, need)
+        flat = [x for level in roots for x in level]
+        flat = [(x - c.left_shift(precision)).truncate(target) for x, c in zip(flat, correction)]
+        roots = _split_levels(setup, flat)
+        precision = target
+    return LiftedPoint(fixed_point, tuple(tuple(level) for level in roots))
+
+
+def lift_points(flag: FlagType, spec: algebra.Specialisation, order: int) -> BethePoints:
+    """Lift every torus-fixed point to a solution of the Bethe equations mod s^order.
+
+    Raises `SingularJacobian` for equal or zero weights, `LiftError` if a final check fails:
+    every point satisfies the equations to order N, the points are pairwise distinct at
+    s = 0, and there are `flag.rank` of them."""
+    if order < 1:
+        raise ValueError(f"the truncation order must be at least 1, got {order}")
+    setup = _setup(flag, spec)
+    points = tuple(lift_point(setup, fp, order) for fp in flag.fixed_points())
+    verify_points(setup, points, order)
+    return BethePoints(flag, spec, order, points)
+
+
+def verify_points(setup: _Setup, points: Sequence[LiftedPoint], order: int) -> None:
+    flag = setup.flag
+    if len(points) != flag.rank:
+        raise LiftError(f"{len(points)} points lifted for {flag.name}, expected rank {flag.rank}")
+    seen = set()
+    for point in points:
+        key = tuple(tuple(sorted(ps.constant_term(x) for x in level)) for level in point.roots)
+        if key in seen:
+            raise LiftError(f"two Bethe points of {flag.name} coincide at s = 0 ({point.fixed_point})")
+        seen.add(key)
+        for value in residuals(setup, point.roots, order):
+            lowest = ps.valuation(value, order)
+            if lowest is not None:
+                raise LiftError(f"the lift of {point.fixed_point} violates a Bethe equation "
+                                f"at s^{lowest}")
+
+
+def random_line_points(flag: FlagType, order: int, *, seed: Optional[int] = None,
+                       prime: int = algebra.DEFAULT_PRIME, weights: Optional[Sequence[int]] = None,
+                       q_line: Optional[Sequence[int]] = None, max_draws: int = 20) -> BethePoints:
+    """`lift_points` at a specialisation drawn from `seed` (drawn itself when None), with
+    given weights / line taking precedence over the draw.
+
+    Drawn weights that make the Jacobian singular are drawn again (seed + 1, …) and the
+    redraw is noted in the record; given weights are never replaced."""
+    if prime - 2 < flag.n:
+        raise ValueError(f"the prime {prime} is too small for {flag.n} distinct nonzero weights")
+    notes = []
+    for _ in range(max_draws):
+        spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime, q_on_line=True)
+        spec = algebra.Specialisation(prime, tuple(weights) if weights is not None else spec.T,
+                                      None, tuple(q_line) if q_line is not None else spec.q_line,
+                                      spec.seed)
+        try:
+            lifted = lift_points(flag, spec, order)
+        except SingularJacobian as error:
+            if weights is not None:
+                raise
+            notes.append(f"seed {spec.seed} redrawn: {error}")
+            seed = (spec.seed + 1) % 2**32
+            continue
+        return BethePoints(lifted.flag, lifted.spec, lifted.order, lifted.points, tuple(notes))
+    raise LiftError(f"no usable weights in {max_draws} draws mod {prime}")
+
+
+# ---------------------------------------------------------------------------------------
+# Values of classes at the points
+
+@dataclass
+class _PointClasses:
+    """What the meanings of generators are built from, computed on demand at one point."""
+    setup: _Setup
+    point: LiftedPoint
+    order: int
+    _lambda: Dict[int, List[Series]] = field(default_factory=dict)
+    _quotient: Dict[int, List[Series]] = field(default_factory=dict)
+    _det_inverse: Dict[int, Series] = field(default_factory=dict)
+
+    def lambda_S(self, i: int) -> List[Series]:
+        """[1, e_1, …, e_{k_i}] of the level-i roots (S_0 = 0, S_{m+1} = the weights)."""
+        if i not in self._lambda:
+            p = self.setup.prime
+            roots = () if i == 0 else (self.setup.top if i == self.setup.flag.m + 1
+                                       else self.point.roots[i - 1])
+            self._lambda[i] = ps.elementary_symmetric(roots, self.order, p)
+        return self._lambda[i]
+
+    def det_S(self, i: int) -> Series:
+        return self.lambda_S(i)[-1]
+
+    def det_S_inverse(self, i: int) -> Series:
+        if i not in self._det_inverse:
+            self._det_inverse[i] = ps.inverse(self.det_S(i), self.order)
+        return self._det_inverse[i]
+
+    def quotient(self, i: int) -> List[Series]:
+        """Coefficients of λ_y(Y^(i)) = N_i(y) / λ_y(S_i), exact at the Bethe points, with
+        N_i(y) = λ_y(S_{i+1}) + y^{d_i} q_i (det S_{i+1}/det S_i) λ_y(S_{i−1})."""
+        if i not in self._quotient:
+            flag, N = self.setup.flag, self.order
+            d = flag.d(i)
+            above, here = self.lambda_S(i + 1), self.lambda_S(i)
+            q = ps.on_line(self.setup.q_slope[i - 1], self.setup.prime)
+            top = q.mul_low(self.det_S(i + 1), N).mul_low(self.det_S_inverse(i), N)
+            w = [above[0]]
+            for j in range(1, d + 1):
+                c = above[j] + (top if j == d else 0)
+                for l in range(1, min(j, flag.k(i)) + 1):
+                    c = c - here[l].mul_low(w[j - l], N)
+                w.append(c)
+            self._quotient[i] = w
+        return self._quotient[i]
+
+    def value(self, meaning: Meaning) -> Series:
+        i, j, kind = meaning.level, meaning.index, meaning.kind
+        if kind == "lambda_S":
+            return self.lambda_S(i)[j]
+        if kind == "vieta_aux":
+            return self.quotient(i)[j]
+        if kind == "lambda_Q":
+            w = self.quotient(i)
+            if j < self.setup.flag.d(i):
+                return w[j]
+            q = ps.on_line(self.setup.q_slope[i - 1], self.setup.prime)
+            return w[j] - q.mul_low(w[j], self.order)
+        if kind == "toda_L":
+            ratio = self.det_S(i)
+            return ratio.mul_low(self.det_S_inverse(i - 1), self.order) if i > 1 else ratio
+        if kind == "root":
+            return self.point.roots[i - 1][j - 1]
+        raise ValueError(f"no value for meaning {meaning}")
+
+
+def meaning_problem(meaning: Meaning, flag: FlagType) -> Optional[str]:
+    """Why a meaning makes no sense for this flag type, or None."""
+    i, j, kind = meaning.level, meaning.index, meaning.kind
+    top = flag.m + 1 if kind == "toda_L" else flag.m
+    if not 1 <= i <= top:
+        return f"{meaning.text}: level {i} outside 1…{top}"
+    if kind == "toda_L":
+        return None
+    bound = flag.k(i) if kind in ("lambda_S", "root") else flag.d(i)
+    if not 1 <= j <= bound:
+        return f"{meaning.text}: index {j} outside 1…{bound}"
+    return None
+
+
+def _classes(points: BethePoints, point: LiftedPoint) -> _PointClasses:
+    return _PointClasses(_setup(points.flag, points.spec), point, points.order)
+
+
+def generator_values(points: BethePoints, generators: Sequence[Generator]) -> List[Dict[str, Series]]:
+    """For every point (in `points.points` order): generator name → its value mod s^N."""
+    for g in generators:
+        problem = meaning_problem(g.meaning, points.flag)
+        if problem:
+            raise ValueError(f"generator {g.name}: {problem}")
+    setup = _setup(points.flag, points.spec)
+    out = []
+    for point in points.points:
+        classes = _PointClasses(setup, point, points.order)
+        out.append({g.name: classes.value(g.meaning) for g in generators})
+    return out
+
+
+# ---------------------------------------------------------------------------------------
+# Evaluating relations: compiled once per presentation, then run at every point
+
+@dataclass(frozen=True)
+class _Program:
+    """Monomials in the generators, each the product of an earlier one and one generator,
+    and for each polynomial its terms as (monomial slot, coefficient series in s)."""
+    steps: Tuple[Tuple[int, int], ...]                     # (earlier slot, generator index)
+    polys: Tuple[Tuple[Tuple[int, Series], ...], ...]
+
+
+def _compile(polys: Sequence, generator_count: int, prime: int) -> _Program:
+    slots: Dict[Tuple[int, ...], int] = {(0,) * generator_count: 0}
+    steps: List[Tuple[int, int]] = []
+
+    def slot(exponents: Tuple[int, ...]) -> int:
+        if exponents not in slots:
+            g = next(index for index, e in enumerate(exponents) if e)
+            smaller = exponents[:g] + (exponents[g] - 1,) + exponents[g + 1:]
+            earlier = slot(smaller)
+            steps.append((earlier, g))
+            slots[exponents] = len(steps)
+        return slots[exponents]
+
+    compiled = []
+    for poly in polys:
+        grouped: Dict[int, Dict[int, int]] = {}
+        for exponents, coefficient in poly.terms():
+            target = slot(tuple(exponents[:generator_count]))
+            grouped.setdefault(target, {})[exponents[generator_count]] = int(coefficient)
+        terms = []
+        for target, by_power in sorted(grouped.items()):
+            coefficients = [0] * (max(by_power) + 1)
+            for power, c in by_power.items():
+                coefficients[power] = c
+            terms.append((target, ps.from_coefficients(coefficients, prime)))
+        compiled.append(tuple(terms))
+    return _Program(tuple(steps), tuple(compiled))
+
+
+def _run(program: _Program, values: Sequence[Series], order: int, prime: int) -> List[Series]:
+    monomials = [ps.constant(1, prime)]
+    for earlier, g in program.steps:
+        monomials.append(monomials[earlier].mul_low(values[g], order))
+    out = []
+    for terms in program.polys:
+        total = ps.constant(0, prime)
+        for target, coefficient in terms:
+            if coefficient.degree() == 0:
+                total = total + monomials[target] * coefficient[0]
+            else:
+                total = total + monomials[target].mul_low(coefficient, order)
+        out.append(total)
+    return out
+
+
+@dataclass(frozen=True)
+class RelationFailure:
+    relation: str               # label of the relation
+    fixed_point: FixedPoint     # a point where it fails at the lowest order seen
+    lowest_power: int           # lowest power of s with a nonzero coefficient there
+    failing_points: int         # at how many points the relation does not vanish mod s^N
+
+    @property
+    def classical(self) -> bool:
+        """Already wrong at q = 0."""
+        return self.lowest_power == 0
+
+    def as_dict(self) -> dict:
+        return {"relation": self.relation, "fixed_point": [list(I) for I in self.fixed_point],
+                "lowest_power": self.lowest_power, "classical": self.classical,
+                "failing_points": self.failing_points}
+
+
+@dataclass(frozen=True)
+class UnitFailure:
+    unit: int                   # position in the presentation's list of units
+    fixed_point: FixedPoint     # first point where it vanishes at s = 0
+    failing_points: int
+
+    def as_dict(self) -> dict:
+        return {"unit": self.unit, "fixed_point": [list(I) for I in self.fixed_point],
+                "failing_points": self.failing_points}
+
+
+@dataclass(frozen=True)
+class HoldsResult:
+    family: str
+    case: str
+    order: int
+    points: int
+    relations: int
+    holds: bool                 # all relations vanish mod s^N and all units are units
+    failures: Tuple[RelationFailure, ...]
+    unit_failures: Tuple[UnitFailure, ...]
+    separates: bool             # generator values at s = 0 tell all fixed points apart
+
+    @property
+    def classical_failure(self) -> bool:
+        return any(f.classical for f in self.failures)
+
+    def as_dict(self) -> dict:
+        return {"family": self.family, "case": self.case, "order": self.order,
+                "points": self.points, "relations": self.relations, "holds": self.holds,
+                "separates": self.separates, "classical_failure": self.classical_failure,
+                "failures": [f.as_dict() for f in self.failures],
+                "unit_failures": [f.as_dict() for f in self.unit_failures]}
+
+
+def _check_same_specialisation(presentation: Presentation, points: BethePoints) -> None:
+    ring, spec = presentation.ring, points.spec
+    if "s" not in ring.extra:
+        raise ValueError("check_holds needs a presentation built with build_series")
+    if ring.ctx.modulus() != spec.prime:
+        raise ValueError(f"presentation is mod {ring.ctx.modulus()}, points mod {spec.prime}")
+    if presentation.flag != points.flag:
+        raise ValueError(f"presentation is for {presentation.flag.name}, points for {points.flag.name}")
+    weights = [int(t.coefficient(0)) if not t.is_zero() else 0 for t in ring.T]
+    if weights != [t % spec.prime for t in spec.T]:
+        raise ValueError("presentation and points use different weights")
+    s = ring.extra["s"]
+    if [q for q in ring.q] != [s * c for c in spec.q_line]:
+        raise ValueError("presentation and points use different q lines")
+
+
+def check_holds(presentation: Presentation, points: BethePoints) -> HoldsResult:
+    """Evaluate every relation and unit of `presentation` (from `build_series` at the same
+    specialisation) at every Bethe point."""
+    _check_same_specialisation(presentation, points)
+    flag, p, N = points.flag, points.spec.prime, points.order
+    generators = presentation.generators
+    for g in generators:
+        problem = meaning_problem(g.meaning, flag)
+        if problem:
+            raise ValueError(f"generator {g.name}: {problem}")
+    relations = presentation.relations
+    program = _compile([r.poly for r in relations] + list(presentation.units), len(generators), p)
+    setup = _setup(flag, points.spec)
+    worst: Dict[int, Tuple[int, FixedPoint]] = {}
+    counts: Dict[int, int] = {}
+    unit_first: Dict[int, FixedPoint] = {}
+    unit_counts: Dict[int, int] = {}
+    signatures = set()
+    for point in points.points:
+        classes = _PointClasses(setup, point, N)
+        values = [classes.value(g.meaning) for g in generators]
+        signatures.add(tuple(int(v[0]) for v in values))
+        results = _run(program, values, N, p)
+        for r, value in enumerate(results[:len(relations)]):
+            lowest = ps.valuation(value, N)
+            if lowest is not None:
+                counts[r] = counts.get(r, 0) + 1
+                if r not in worst or lowest < worst[r][0]:
+                    worst[r] = (lowest, point.fixed_point)
+        for u, value in enumerate(results[len(relations):]):
+            if value[0] == 0:
+                unit_counts[u] = unit_counts.get(u, 0) + 1
+                unit_first.setdefault(u, point.fixed_point)
+    failures = tuple(RelationFailure(relations[r].label, worst[r][1], worst[r][0], counts[r])
+                     for r in sorted(worst))
+    unit_failures = tuple(UnitFailure(u, unit_first[u], unit_counts[u]) for u in sorted(unit_first))
+    return HoldsResult(presentation.family, flag.name, N, len(points.points), len(relations),
+                       not failures and not unit_failures, failures, unit_failures,
+                       len(signatures) == len(points.points))
+
+
+def check_holds_family(family: Family, flag: FlagType, points: BethePoints) -> HoldsResult:
+    """`check_holds` for a family, built over the points' own specialisation."""
+    return check_holds(build_series(family, flag, points.spec), points)
+
+
+# ---------------------------------------------------------------------------------------
+# Human-readable summary
+
+def summary_text(points: BethePoints, shown: int = 6, coefficients: int = 3) -> str:
+    spec, N = points.spec, points.order
+    lines = [f"Bethe points of {points.flag.name}: {len(points.points)} = rank, "
+             f"each satisfying the Bethe equations mod s^{N}",
+             f"  prime {spec.prime}, seed {spec.seed}",
+             f"  weights T = {', '.join(map(str, spec.T))}",
+             "  q line: " + ", ".join(f"q{i} = {c}·s" for i, c in enumerate(spec.q_line, start=1))]
+    lines += [f"  note: {note}" for note in points.notes]
+    lines.append(f"first {coefficients} coefficients of each root (s^0, s^1, …):")
+    for point in points.points[:shown]:
+        chain = " ⊂ ".join("{" + ",".join(map(str, I)) + "}" for I in point.fixed_point)
+        lines.append(f"  {chain}")
+        for i, level in enumerate(point.roots, start=1):
+            for a, x in enumerate(level, start=1):
+                lines.append(f"    X^({i})_{a} = " + ", ".join(
+                    map(str, ps.coefficients(x, min(coefficients, N)))) + (", …" if N > coefficients else ""))
+    if len(points.points) > shown:
+        lines.append(f"  … and {len(points.points) - shown} more points (--json prints all)")
+    return "\n".join(lines)
