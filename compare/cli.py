@@ -77,6 +77,16 @@ def int_list(option: str, text: str) -> List[int]:
         raise UsageError(f"{option} {text!r}: expected comma-separated integers") from None
 
 
+def positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"{value} must be at least 1")
+    return value
+
+
 def prime_argument(text: str) -> int:
     try:
         p = int(text)
@@ -134,6 +144,31 @@ def cmd_presentations(args) -> int:
     return 0
 
 
+def cmd_points(args) -> int:
+    from .points import SingularJacobian, random_line_points, summary_text
+    flag, prime = args.case, args.prime
+    weights = line = None
+    if args.weights is not None:
+        weights = [w % prime for w in int_list("--weights", args.weights)]
+        if len(weights) != flag.n:
+            raise UsageError(f"--weights {args.weights!r}: {flag.name} needs {flag.n} weights, "
+                             f"got {len(weights)}")
+    elif prime - 2 < flag.n:
+        raise UsageError(f"--prime {prime}: too small for {flag.n} distinct nonzero weights")
+    if args.q_line is not None:
+        line = [c % prime for c in int_list("--q-line", args.q_line)]
+        if len(line) != flag.m:
+            raise UsageError(f"--q-line {args.q_line!r}: {flag.name} has {flag.m} q parameter(s), "
+                             f"got {len(line)} coefficients")
+    try:
+        lifted = random_line_points(flag, args.order, seed=args.seed, prime=prime,
+                                    weights=weights, q_line=line)
+    except SingularJacobian as error:   # only given weights get here; drawn ones are redrawn
+        raise UsageError(f"--weights {args.weights!r}: {error}") from None
+    emit(args, lifted.record(), summary_text(lifted))
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="ringmatch",
                      description="Compare presentations of quantum K-theory rings of flag varieties.")
@@ -168,6 +203,19 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--plain", action="store_true", help="with --case-file: all T_j = 1")
     p.add_argument("--json", action="store_true", help="the list as JSON")
     p.set_defaults(run=cmd_presentations)
+
+    p = sub.add_parser("points", help="lift the torus-fixed points to Bethe points in F_p[[s]]")
+    p.add_argument("case", type=flag_argument)
+    p.add_argument("--weights", metavar="T1,...,Tn",
+                   help="equivariant weights (distinct, nonzero mod p); random when omitted")
+    p.add_argument("--q-line", metavar="C1,...,Cm",
+                   help="q_i = C_i * s; random when omitted")
+    p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
+    p.add_argument("--order", type=positive_int, default=8,
+                   help="number of coefficients N of every root (mod s^N); default 8")
+    p.add_argument("--seed", type=int, help="seed for the random weights / line (recorded)")
+    p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    p.set_defaults(run=cmd_points)
     return parser
 
 
