@@ -420,7 +420,7 @@ def _entry(item, section: str, locator: StringLocator, at: Loc, depth: int) -> E
 def _string_source(item: dict, key: str, section: str, locator: StringLocator,
                    where: Loc) -> SourceText:
     if key not in item:
-        fail(where, f"a {section} entry needs a {key!r} field")
+        fail(where, f"a {section} entry needs the field {key!r}")
     value = item[key]
     if not isinstance(value, str):
         fail(where, f"{key!r} in {section} must be a string")

@@ -1,0 +1,239 @@
+"""Property-based fuzzing of the presentation-file reader (docs/presentation-files.md).
+
+10 500 generated files in total: the shipped files (and case files written from the
+built-in families) with characters, tokens and lines deleted, inserted, duplicated and
+swapped; relation expressions that are random token soups, or random well-formed expressions,
+inside a valid container; and arbitrary text.  Every one must end either in a presentation (expanded for a small flag
+type, in a specialised ring) or in a one-line `PresentationFileError` naming the file — any
+other exception fails the test — and `eval`/`exec` are switched off while it runs, so
+nothing in a file can be executed.
+"""
+from __future__ import annotations
+
+import builtins
+import re
+from contextlib import contextmanager
+
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from compare import algebra
+from presentations import FAMILIES, userfile
+from presentations.flagtype import parse_flag
+from presentations.interface import PresentationError, build_specialised
+from presentations.userfile import PresentationFileError, family_from_text
+
+LABEL = "fuzz.toml"
+SMALL_CASES = [parse_flag(c) for c in ("Gr(1;2)", "Fl(1,2;3)", "Gr(2;4)", "Fl(1,3;4)", "Fl(4)")]
+SPECS = {flag: algebra.draw_specialisation(flag.n, flag.m, seed=7) for flag in SMALL_CASES}
+
+SEEDS = sorted(path.read_text() for path in userfile.shipped_files().values())
+SEEDS += [userfile.case_file_text(FAMILIES[name], parse_flag(case))
+          for name, case in (("whitney", "Gr(1;2)"), ("toda", "Fl(3)"), ("vieta", "Fl(1,2;3)"))]
+
+ALPHABET = list("\"'[]{}()=_.,:+-*/^#\n \t0123456789ijkmnqyTSQYCLxeh\\λ−·")
+TOKENS = ["lambda_y(", "lambda_j(", "det(", "e_j(", "h_2(", "x_1(", "L_", "sum(", "prod(",
+          "..", ":", "[y^", "[y]", "]", "{i}", "{", "}", "k_{i+1}", "d_i", "k_", "n", "m",
+          "rank", "q_i", "q_1", "T_j", "T_9", "T1", "S_0", "S_i", "Q_i", "Y_i", "C^n", "T", "y",
+          "/", "(1 - q_i)", "^-1", "^", "^200", "*", "-", "+", "=", "(", ")", ",", "0", "1",
+          "99999", "i", "j", "a", "S1_1", "Q1_1", "w1_1", "L1", '"', '"""', "'", "\n",
+          "\n[[relations]]\n", "\n[[generators]]\n", "\n[[units]]\n", "\nexpr = \"",
+          "for = \"", "group = [", "coefficients = \"", "label = \"", "applies_to", "flavour",
+          "\"case\"", "\"family\"", "case = \"Fl(4)\"\n", "weight = 0", "name = \"",
+          "meaning = \"", "lambda_j(S_i)", "e_j(Y_i)", "x_a(S_i)", "L_i", "#"]
+TOKEN_PATTERN = re.compile(r"\s+|[A-Za-z_][A-Za-z0-9_]*|\d+|\.\.|.", re.S)
+
+
+@contextmanager
+def dynamic_code_forbidden():
+    def refuse(*args, **kwargs):
+        raise AssertionError("eval/exec called while reading a presentation file")
+    saved = builtins.eval, builtins.exec
+    builtins.eval, builtins.exec = refuse, refuse
+    try:
+        yield
+    finally:
+        builtins.eval, builtins.exec = saved
+
+
+def check_clean_error(error: PresentationFileError) -> None:
+    text = str(error)
+    assert "\n" not in text and text.startswith(LABEL), text
+    assert error.message, text
+
+
+def read_and_expand(text: str) -> str:
+    """'parsed', 'refused' (no small case supported) or 'error' — or a failing assertion."""
+    with dynamic_code_forbidden():
+        try:
+            family = family_from_text(text, LABEL)
+        except PresentationFileError as error:
+            check_clean_error(error)
+            return "error"
+        for flag in SMALL_CASES:
+            if family.unsupported(flag) is not None:
+                continue
+            try:
+                presentation = build_specialised(family, flag, SPECS[flag])
+            except PresentationFileError as error:
+                check_clean_error(error)
+                return "error"
+            assert presentation.relations and presentation.generators
+            assert all(r.poly.context() is presentation.ring.ctx for r in presentation.relations)
+            return "parsed"
+        return "refused"
+
+
+# ---------------------------------------------------------------------------------------
+# Mutations
+
+def _position(draw, text: str) -> int:
+    return draw(st.integers(0, len(text)))
+
+
+@st.composite
+def mutated_file(draw) -> str:
+    text = draw(st.sampled_from(SEEDS))
+    for _ in range(draw(st.integers(1, 5))):
+        kind = draw(st.sampled_from(["delete", "insert_char", "insert_token", "swap_chars",
+                                     "swap_tokens", "delete_token", "duplicate_line",
+                                     "delete_line"]))
+        if kind == "delete":
+            i = _position(draw, text)
+            text = text[:i] + text[i + draw(st.integers(1, 12)):]
+        elif kind == "insert_char":
+            i = _position(draw, text)
+            text = text[:i] + draw(st.sampled_from(ALPHABET)) + text[i:]
+        elif kind == "insert_token":
+            i = _position(draw, text)
+            text = text[:i] + draw(st.sampled_from(TOKENS)) + text[i:]
+        elif kind == "swap_chars" and len(text) > 1:
+            i, j = sorted((_position(draw, text[:-1]), _position(draw, text[:-1])))
+            text = text[:i] + text[j] + text[i + 1:j] + text[i] + text[j + 1:]
+        elif kind in ("swap_tokens", "delete_token"):
+            tokens = TOKEN_PATTERN.findall(text)
+            if len(tokens) > 1:
+                i = draw(st.integers(0, len(tokens) - 1))
+                j = draw(st.integers(0, len(tokens) - 1))
+                if kind == "swap_tokens":
+                    tokens[i], tokens[j] = tokens[j], tokens[i]
+                else:
+                    del tokens[i]
+                text = "".join(tokens)
+        elif kind in ("duplicate_line", "delete_line"):
+            lines = text.split("\n")
+            i = draw(st.integers(0, len(lines) - 1))
+            lines[i:i + 1] = [lines[i]] * (2 if kind == "duplicate_line" else 0)
+            text = "\n".join(lines)
+    return text
+
+
+SOUP_CONTAINER = """\
+format = 1
+flavour = "family"
+name = "soup"
+applies_to = "all"
+
+[[generators]]
+for = "i = 1..m"
+group = [
+  {{ for = "j = 1..k_i", name = "S{{i}}_{{j}}", meaning = "lambda_j(S_i)", weight = "j" }},
+  {{ for = "j = 1..d_i", name = "Q{{i}}_{{j}}", meaning = "lambda_j(Q_i)", weight = "j" }},
+]
+
+[[units]]
+expr = {unit}
+
+[[relations]]
+for = {loops}
+coefficients = {coefficients}
+expr = {expr}
+"""
+SOUP_TOKENS = [t for t in TOKENS if not any(c in t for c in "\"'\n#")] + \
+              ["S1_1", "S1_2", "Q1_1", "Q2_1", "S2_1", "S2_2", " ", "  ", "(", ")", "i", "j",
+               "1", "2", "3"]
+
+
+def toml_string(text: str) -> str:
+    return '"' + text.replace("\\", "\\\\").replace('"', '\\"') + '"'
+
+
+@st.composite
+def token_soup_file(draw) -> str:
+    def soup(max_size):
+        return "".join(draw(st.lists(st.sampled_from(SOUP_TOKENS), min_size=0,
+                                     max_size=max_size)))
+    loops = draw(st.sampled_from(['"i = 1..m"', '"i = 1..1"', toml_string(soup(6))]))
+    coefficients = draw(st.sampled_from(['"j = 1..k_{i+1}"', '"j = 0..2"',
+                                         toml_string(soup(5))]))
+    unit = draw(st.sampled_from(['"det(S_1)"', '"1 + S1_1"', toml_string(soup(5))]))
+    expr = toml_string(soup(16))
+    return SOUP_CONTAINER.format(unit=unit, loops=loops, coefficients=coefficients, expr=expr)
+
+
+ATOMS = ["S1_1", "S1_2", "Q1_1", "S2_1", "T_1", "T_3", "T_9", "q_1", "q_2", "q_i", "y", "n", "m",
+         "k_i", "d_i", "i", "j", "a", "0", "1", "2", "7", "det(S_i)", "det(Q_1)", "det(C^n)",
+         "lambda_y(S_i)", "lambda_y(Q_i)", "lambda_y(S_{i+1})", "lambda_y(S_{i-1})",
+         "lambda_2(S_1)", "e_2(T)", "h_2(S_1)", "h_3(T)", "x_1(C^n)", "L_1", "lambda_y(Y_1)",
+         "(1 - q_i)", "rank"]
+EXPRESSIONS = st.recursive(
+    st.sampled_from(ATOMS),
+    lambda inner: st.one_of(
+        st.tuples(inner, st.sampled_from(["+", "-", "*", "/"]), inner).map(
+            lambda t: f"({t[0]} {t[1]} {t[2]})"),
+        st.tuples(inner, st.sampled_from(["0", "1", "2", "3", "-1", "-2", "k_i", "(n-1)"])).map(
+            lambda t: f"{t[0]}^{t[1]}"),
+        st.tuples(st.sampled_from(["0", "1", "2", "j", "d_i", "{n}"]), inner).map(
+            lambda t: f"[y^{t[0]}]({t[1]})"),
+        st.tuples(st.sampled_from(["sum", "prod"]), st.sampled_from(["a = 1..2", "a = 0..n",
+                                                                      "a = 2..1", "j = 1..2"]),
+                  inner).map(lambda t: f"{t[0]}({t[1]}: {t[2]})"),
+        inner.map(lambda e: f"-{e}")),
+    max_leaves=10)
+
+
+@st.composite
+def grammar_built_file(draw) -> str:
+    """Well-formed expressions from random pieces: they reach evaluation, where index
+    ranges, units, degrees and loop variables are checked."""
+    loops = draw(st.sampled_from(['"i = 1..m"', '"i = 1..1"', '"i = m..m"', '"i = 0..m"']))
+    coefficients = draw(st.sampled_from(['"j = 1..k_{i+1}"', '"j = 0..2"', '"a = 0..1"']))
+    unit = draw(st.sampled_from(['"det(S_1)"', '"1 + S1_1"', toml_string(draw(EXPRESSIONS))]))
+    expr = toml_string(draw(EXPRESSIONS))
+    return SOUP_CONTAINER.format(unit=unit, loops=loops, coefficients=coefficients, expr=expr)
+
+
+def fuzz_settings(examples: int) -> settings:
+    return settings(max_examples=examples, deadline=None,
+                    suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large,
+                                           HealthCheck.filter_too_much])
+
+
+@fuzz_settings(4500)
+@given(mutated_file())
+def test_mutated_shipped_files_parse_or_fail_cleanly(text):
+    read_and_expand(text)
+
+
+@fuzz_settings(4000)
+@given(token_soup_file() | grammar_built_file())
+def test_token_soup_expressions_parse_or_fail_cleanly(text):
+    read_and_expand(text)
+
+
+@fuzz_settings(2000)
+@given(st.text(alphabet=st.characters(blacklist_categories=("Cs",)), max_size=300)
+       | st.text(alphabet=ALPHABET + list("abcdefgrstuvwz"), max_size=300))
+def test_arbitrary_text_parses_or_fails_cleanly(text):
+    read_and_expand(text)
+
+
+def test_the_seeds_themselves_parse():
+    """The unmutated inputs expand (so mutations start from working files)."""
+    outcomes = [read_and_expand(text) for text in SEEDS]
+    assert outcomes.count("parsed") >= len(SEEDS) - 1     # the P3 case is not a small case
+    assert "error" not in outcomes
+    soup = SOUP_CONTAINER.format(unit='"det(S_1)"', loops='"i = 1..m"',
+                                 coefficients='"j = 1..k_{i+1}"',
+                                 expr='"lambda_y(S_i) * lambda_y(Q_i) - lambda_y(S_{i+1})"')
+    assert read_and_expand(soup) == "parsed"
