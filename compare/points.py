@@ -28,6 +28,7 @@ nonzero at s = 0 there.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Dict, Iterable, List, Optional, Sequence, Tuple
 
@@ -83,14 +84,29 @@ def point_record(point: LiftedPoint, order: int) -> dict:
 
 @dataclass(frozen=True)
 class _Setup:
+    """Everything about the flag and specialisation that does not depend on the point.
+
+    The sweep works with each equation multiplied by a sign (which changes neither the
+    solutions nor Newton's iteration) so that no series ever has to be negated:
+
+        σ_i F = ∏_b (X^(i+1)_b − x) + s · κ_i D_i x^e ∏_c (X^(i−1)_c − x),
+
+    σ_i = (−1)^{k_{i+1}}, κ_i = σ_i (−1)^{k_{i−1}} (−1)^{d_i} c_i for q_i = c_i s."""
     flag: FlagType
     prime: int
     weights: Tuple[int, ...]
     top: Tuple[Series, ...]             # the weights as constant series: level m+1
-    q_term_slope: Tuple[int, ...]       # (−1)^{d_i}·c_i for q_i = c_i s, levels 1…m
     q_slope: Tuple[int, ...]            # c_i
+    folded_slope: Tuple[int, ...]       # κ_i
+    row_sign: Tuple[int, ...]           # σ_i, levels 1…m
     offsets: Tuple[int, ...]            # position of level i's first root in the flat vector
     size: int                           # number of unknowns, Σ k_i
+    level_of: Tuple[int, ...]           # level of each flat position
+    top_polynomial: Series              # ∏_j (T_j − t): level m's product, composed with x
+    top_derivative: Series
+    weight_product: int                 # det S_{m+1} = T_1⋯T_n
+    inverse_differences: Tuple[Tuple[int, ...], ...]   # 1/(T_j − T_l) mod p (0 on the diagonal)
+    rank_one_signs: object              # m×m matrix: −1 on the diagonal, +1 just above it
 
 
 def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
@@ -102,14 +118,29 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
     if len(spec.q_line) != flag.m:
         raise ValueError(f"{flag.name} needs {flag.m} q-line coefficients, got {len(spec.q_line)}")
     check_weights(spec.T, p)
-    offsets, total = [], 0
-    for i in range(1, flag.m + 1):
-        offsets.append(total)
-        total += flag.k(i)
+    m = flag.m
+    offsets, level_of = [], []
+    for i in range(1, m + 1):
+        offsets.append(len(level_of))
+        level_of += [i] * flag.k(i)
     weights = tuple(t % p for t in spec.T)
+    top = ps.constant(1, p)
+    for t in weights:
+        top = top * flint.nmod_poly([t, -1], p)
+    row_sign = tuple((-1) ** flag.k(i + 1) for i in range(1, m + 1))
+    folded = tuple((row_sign[i - 1] * (-1) ** (flag.k(i - 1) + flag.d(i)) * spec.q_line[i - 1]) % p
+                   for i in range(1, m + 1))
+    inverse_differences = tuple(tuple(pow(a - b, -1, p) if a != b else 0 for b in weights)
+                                for a in weights)
+    signs = flint.nmod_mat(m, m, p)
+    for i in range(m):
+        signs[i, i] = -1
+        if i + 1 < m:
+            signs[i, i + 1] = 1
     return _Setup(flag, p, weights, tuple(ps.constant(t, p) for t in weights),
-                  tuple(((-1) ** flag.d(i) * spec.q_line[i - 1]) % p for i in range(1, flag.m + 1)),
-                  tuple(c % p for c in spec.q_line), tuple(offsets), total)
+                  tuple(c % p for c in spec.q_line), folded, row_sign, tuple(offsets),
+                  len(level_of), tuple(level_of), top, top.derivative(),
+                  math.prod(weights) % p, inverse_differences, signs)
 
 
 def check_weights(weights: Sequence[int], prime: int) -> None:
@@ -129,115 +160,127 @@ def check_weights(weights: Sequence[int], prime: int) -> None:
 
 
 # ---------------------------------------------------------------------------------------
-# The equations and their Jacobian
-
-def _levels(setup: _Setup, roots: Sequence[Sequence[Series]]) -> List[Sequence[Series]]:
-    """Levels 0…m+1 of Chern roots: level 0 empty, level m+1 the weights."""
-    return [()] + list(roots) + [setup.top]
-
-
-def _det_ratios(setup: _Setup, levels, order: int) -> List[Series]:
-    """D_i = det S_{i+1} / det S_i for i = 1…m (index i−1), to the given order."""
-    dets = [ps.product(level, order, setup.prime) for level in levels[1:]]
-    return [dets[i].mul_low(ps.inverse(dets[i - 1], order), order) for i in range(1, len(dets))]
-
-
-def _q_cofactors(setup: _Setup, levels, order: int) -> List[Series]:
-    """(−1)^{d_i} c_i D_i to order − 1: the q-term is s times this (times x^e ∏(x − X^(i−1)))."""
-    if order <= 1:
-        return [ps.constant(0, setup.prime)] * setup.flag.m
-    ratios = _det_ratios(setup, levels, order - 1)
-    return [r * c for r, c in zip(ratios, setup.q_term_slope)]
-
+# The equations and their Jacobian, in one sweep over the roots
 
 def residuals(setup: _Setup, roots: Sequence[Sequence[Series]], order: int) -> List[Series]:
-    """The cleared Bethe equations at the given roots, one per root (flat order), mod s^order."""
-    flag, levels = setup.flag, _levels(setup, roots)
-    cofactors = _q_cofactors(setup, levels, order)
-    out = []
-    for i in range(1, flag.m + 1):
-        above, below = levels[i + 1], levels[i - 1]
-        e = flag.k(i) - flag.k(i - 1)
-        for x in levels[i]:
-            a = x - above[0]
-            for X in above[1:]:
-                a = a.mul_low(x - X, order)
-            if order > 1:
-                q = cofactors[i - 1].mul_low(x.pow_trunc(e, order - 1), order - 1)
-                for X in below:
-                    q = q.mul_low(x - X, order - 1)
-                a = a + q.left_shift(1)
-            out.append(a.truncate(order))
-    return out
+    """The cleared Bethe equations (each up to a sign) at the given roots, one per root in
+    flat order, mod s^order."""
+    return _sweep(setup, roots, order, 0, [])[0]
 
 
-def _products_without_one(factors: Sequence[Series], order: int, prime: int) -> List[Series]:
-    """[∏_{c≠b} f_c for each b], by prefix and suffix products (no division: f_b may vanish
-    at s = 0)."""
-    k = len(factors)
-    prefix = [ps.constant(1, prime)]
-    for f in factors[:-1]:
-        prefix.append(prefix[-1].mul_low(f, order))
-    out = [None] * k
-    suffix = ps.constant(1, prime)
-    for b in range(k - 1, -1, -1):
-        out[b] = prefix[b].mul_low(suffix, order)
-        suffix = suffix.mul_low(factors[b], order)
-    return out
+def _sweep(setup: _Setup, roots: Sequence[Sequence[Series]], f_order: int, j_order: int,
+           jacobian: List) -> Tuple[List[Series], List]:
+    """Residuals mod s^f_order and the coefficient matrices J_1 … J_{j_order−1} of their
+    Jacobian.  J_t depends only on the roots mod s^{t+1}, which Newton's steps never change
+    again, so `jacobian` (J_1, J_2, … from earlier sweeps) is only extended; J_0 is never
+    needed (see `_schulz_step`).
 
-
-def jacobian_entries(setup: _Setup, roots: Sequence[Sequence[Series]], order: int):
-    """Nonzero entries (row, column, series mod s^order) of the Jacobian of `residuals`.
-
-    Row of x = X^(i)_a, with A = ∏_b (x − X^(i+1)_b), C = ∏_c (x − X^(i−1)_c),
-    K = (−1)^{d_i} q_i D_i x^e and the q-term Q = K·C:
-      ∂/∂x          = Σ_b A/(x − X_b) + K Σ_c C/(x − X_c) + (e − 1) Q/x
-      ∂/∂X^(i)_a'   = −Q / X^(i)_a'                       (through det S_i)
-      ∂/∂X^(i+1)_b  = −A/(x − X_b) + Q / X^(i+1)_b        (the factor and det S_{i+1})
-      ∂/∂X^(i−1)_c  = −K C/(x − X_c)
+    For a root x at level i, with the factors of `_Setup`, P = ∏_b (X^(i+1)_b − x),
+    C = ∏_c (X^(i−1)_c − x), K = κ_i D_i x^e and Q = K·C (so σ_i F = P + s·Q):
+      ∂/∂X^(i+1)_b  = ∏_{b'≠b} (X_b' − x) + s·Q / X^(i+1)_b     (the factor, and det S_{i+1})
+      ∂/∂X^(i)_a'   = −s·Q / X^(i)_a'                            (det S_i), a' ≠ a
+      ∂/∂X^(i−1)_c  = s·K ∏_{c'≠c} (X_c' − x)
+      ∂/∂x          = dP/dx − s·(K Σ_c ∏_{c'≠c} (X_c' − x) − (e − 1) Q/x)
+    The Q/X terms are an outer product, level by level (Q per row, 1/X per column), added
+    as small matrix products; the rank-one part also puts −s·Q/x on the diagonal, which the
+    diagonal entry below compensates.  Products leaving out one factor come from prefix and
+    suffix products, never by division: X_b − x vanishes at s = 0 for the root above that
+    starts at the same weight.
     """
-    flag, p, levels = setup.flag, setup.prime, _levels(setup, roots)
-    cofactors = _q_cofactors(setup, levels, order)
-    low = order - 1   # precision of the s-cofactors of q-terms
-    inverses = [[ps.inverse(x, low) if low > 0 else None for x in level] for level in roots]
-    entries = []
-    for i in range(1, flag.m + 1):
+    flag, p, m, u = setup.flag, setup.prime, setup.flag.m, setup.size
+    levels = [()] + [list(level) for level in roots] + [setup.top]
+    f_low = f_order - 1             # precision of the s-cofactors of q-terms in F …
+    low = j_order - 1               # … and in the Jacobian
+    first = len(jacobian) + 1       # the first J_t still to compute
+    new_J = [flint.nmod_mat(u, u, p) for _ in range(first, j_order)]
+    want_j = bool(new_J)
+    cofactors = [None] * (m + 1)
+    if f_low > 0:
+        dets = [None] + [ps.product(level, f_low, p) for level in levels[1:m + 1]] \
+            + [ps.constant(setup.weight_product, p)]
+        for i in range(1, m + 1):
+            ratio = dets[i + 1].mul_low(ps.inverse(dets[i], f_low), f_low)
+            cofactors[i] = ratio * setup.folded_slope[i - 1]
+    if want_j:
+        Q_rows = [flint.nmod_mat(u, m, p) for _ in range(low)]
+        inverse_columns = [flint.nmod_mat(m, u, p) for _ in range(low)]
+        # roots are units: their constant terms are nonzero weights (check_weights)
+        inverse_roots = [[x.inverse_series_trunc(low) for x in level] for level in levels[1:m + 1]]
+        for i in range(1, m + 1):
+            for a, y in enumerate(inverse_roots[i - 1]):
+                column = setup.offsets[i - 1] + a
+                for t in range(low):
+                    inverse_columns[t][i - 1, column] = y[t]
+    out = []
+    row = 0
+    for i in range(1, m + 1):
         above, below = levels[i + 1], levels[i - 1]
         e = flag.k(i) - flag.k(i - 1)
-        base = setup.offsets[i - 1]
-        above_base = setup.offsets[i] if i < flag.m else None
-        below_base = setup.offsets[i - 2] if i > 1 else None
+        above_base = setup.offsets[i] if i < m else 0
+        below_base = setup.offsets[i - 2] if i > 1 else 0
+        cofactor = cofactors[i]
         for a, x in enumerate(levels[i]):
-            row = base + a
-            partial_above = _products_without_one([x - X for X in above], order, p)
-            diagonal = partial_above[0]
-            for term in partial_above[1:]:
-                diagonal = diagonal + term
-            column_terms: Dict[int, Series] = {}
-            if above_base is not None:
-                for b, term in enumerate(partial_above):
-                    column_terms[above_base + b] = -term
-            if low > 0:
-                K = cofactors[i - 1].mul_low(x.pow_trunc(e, low), low)
-                partial_below = _products_without_one([x - X for X in below], low, p)
-                C = partial_below[0].mul_low(x - below[0], low) if below else ps.constant(1, p)
-                Q = K.mul_low(C, low)
-                derivative = Q.mul_low(inverses[i - 1][a], low) * (e - 1)
-                for c, term in enumerate(partial_below):
-                    KC = K.mul_low(term, low)
-                    derivative = derivative + KC
-                    column_terms[below_base + c] = (-KC).left_shift(1)
-                diagonal = diagonal + derivative.left_shift(1)
-                for a2 in range(len(levels[i])):
-                    if a2 != a:
-                        column_terms[base + a2] = (-Q.mul_low(inverses[i - 1][a2], low)).left_shift(1)
-                if above_base is not None:
-                    for b in range(len(above)):
-                        column_terms[above_base + b] = column_terms[above_base + b] + \
-                            Q.mul_low(inverses[i][b], low).left_shift(1)
-            entries.append((row, row, diagonal))
-            entries.extend((row, column, term) for column, term in column_terms.items())
-    return entries
+            if i == m:      # the factors T_j − x: one fixed polynomial, composed with x
+                P = setup.top_polynomial.compose(x).truncate(f_order)
+                if want_j:
+                    diagonal = setup.top_derivative.compose(x).truncate(j_order)
+            else:
+                diffs = [X - x for X in above]
+                prefix = [diffs[0]]
+                for d in diffs[1:]:
+                    prefix.append(prefix[-1].mul_low(d, f_order))
+                P = prefix[-1]
+                if want_j:
+                    k = len(diffs)
+                    suffix = diffs[-1]
+                    partial = prefix[k - 2]
+                    total = partial
+                    _scatter(new_J, first, row, above_base + k - 1, partial)
+                    for b in range(k - 2, 0, -1):
+                        partial = prefix[b - 1].mul_low(suffix, j_order)
+                        suffix = suffix.mul_low(diffs[b], j_order)
+                        total = total + partial
+                        _scatter(new_J, first, row, above_base + b, partial)
+                    total = total + suffix
+                    _scatter(new_J, first, row, above_base, suffix)
+                    diagonal = -total
+            if f_low > 0:
+                K = cofactor.mul_low(x if e == 1 else x.pow_trunc(e, f_low), f_low)
+                bdiffs = [X - x for X in below]
+                with_K = [K]
+                for d in bdiffs:
+                    with_K.append(with_K[-1].mul_low(d, f_low))
+                Q = with_K[-1]
+                P = P + Q.left_shift(1)
+                if want_j:
+                    q_part = Q.mul_low(inverse_roots[i - 1][a], low) * (-e)
+                    suffix = None
+                    for c in range(len(bdiffs) - 1, -1, -1):
+                        KC = with_K[c] if suffix is None else with_K[c].mul_low(suffix, low)
+                        suffix = bdiffs[c] if suffix is None else suffix.mul_low(bdiffs[c], low)
+                        q_part = q_part + KC
+                        _scatter(new_J, first, row, below_base + c, KC, 1)
+                    for t in range(low):
+                        Q_rows[t][row, i - 1] = Q[t]
+                    diagonal = diagonal - q_part.left_shift(1)
+            if want_j:
+                _scatter(new_J, first, row, row, diagonal)
+            out.append(P)
+            row += 1
+    if want_j:
+        signed = [setup.rank_one_signs * w for w in inverse_columns]
+        for t in range(first, j_order):
+            for a in range(t):
+                new_J[t - first] += Q_rows[a] * signed[t - 1 - a]
+    return out, jacobian + new_J
+
+
+def _scatter(matrices: List, first: int, row: int, column: int, value: Series,
+             shift: int = 0) -> None:
+    """Coefficients s^first, s^{first+1}, … of one Jacobian entry (s^shift · value) into
+    their matrices."""
+    for t, matrix in enumerate(matrices, start=first - shift):
+        matrix[row, column] = value[t]
 
 
 # ---------------------------------------------------------------------------------------
@@ -253,49 +296,43 @@ def _precision_schedule(order: int) -> List[int]:
 
 
 def _initial_inverse(setup: _Setup, fixed_point: FixedPoint):
-    """B_0 = J(s = 0)^{-1}, read off the chains of equal weights (see the module notes)."""
-    flag, p, T = setup.flag, setup.prime, setup.weights
-    inverse = flint.nmod_mat(setup.size, setup.size, p)
-    chains: Dict[int, List[Tuple[int, int]]] = {}   # weight index j → [(row, 1/diagonal)], top level first
+    """B_0 = J(s = 0)^{-1}, read off the chains of equal weights (see the module notes).
+
+    At s = 0 the row of x = T_j at level i has −δ on the diagonal and δ in the column of the
+    root above that also starts at T_j, δ = ∏_{l ∈ I_{i+1}, l ≠ j} (T_l − T_j) (the sweep's
+    sign convention); the inverse of this telescoping system has −1/δ(column) in every column
+    of the chain of T_j from the row's level up.  −1/δ = σ_i ∏ 1/(T_j − T_l)."""
+    flag, inverse_differences = setup.flag, setup.inverse_differences
+    inverse = flint.nmod_mat(setup.size, setup.size, setup.prime)
+    everything = tuple(range(1, flag.n + 1))
+    chains: Dict[int, List[Tuple[int, int]]] = {}   # weight index j → [(row, 1/δ)], top level first
     for i in range(flag.m, 0, -1):
-        above = fixed_point[i] if i < flag.m else tuple(range(1, flag.n + 1))
+        above = fixed_point[i] if i < flag.m else everything
         for a, j in enumerate(fixed_point[i - 1]):
-            diagonal = 1
-            for j2 in above:
-                if j2 != j:
-                    diagonal = diagonal * (T[j - 1] - T[j2 - 1]) % p
-            if diagonal == 0:
-                raise SingularJacobian(f"the Jacobian is singular at the fixed point {fixed_point}")
+            row_of_differences = inverse_differences[j - 1]
+            inverse_delta = 1
+            for l in above:
+                if l != j:
+                    inverse_delta = inverse_delta * row_of_differences[l - 1]
             row = setup.offsets[i - 1] + a
             chain = chains.setdefault(j, [])
-            chain.append((row, pow(diagonal, -1, p)))
-            # x^(i) − x^(i+1) − … telescopes: the row's solution picks up every level above it
-            for column, inverse_diagonal in chain:
-                inverse[row, column] = inverse_diagonal
+            chain.append((row, -inverse_delta % setup.prime if setup.row_sign[i - 1] == -1
+                          else inverse_delta % setup.prime))
+            for column, value in chain:
+                inverse[row, column] = value
     return inverse
 
 
-def _coefficient_matrices(entries, rows: int, columns: int, precision: int, prime: int, first: int):
-    """The coefficient matrices M_t (first ≤ t < precision) of a matrix of series."""
-    mats = [flint.nmod_mat(rows, columns, prime) for _ in range(first, precision)]
-    for row, column, value in entries:
-        for t, c in enumerate(value.coeffs()[first:precision]):
-            if c != 0:
-                mats[t][row, column] = c
-    return mats
-
-
-def _schulz_step(setup: _Setup, roots, inverse: List, J0, precision: int) -> List:
-    """Double the precision of B ≈ J^{-1}: B + B(I − J B), with J at the current roots."""
+def _schulz_step(inverse: List, J: List, precision: int) -> List:
+    """Double the precision of B ≈ J^{-1}: B + B(I − J B), from the coefficient matrices
+    J_1, J_2, … (J[a − 1] = J_a).  As J_0 B_0 = I and the higher products J_0 B_t only
+    matter below the known precision, J_0 never enters."""
     known = len(inverse)
-    J = [J0] + _coefficient_matrices(jacobian_entries(setup, roots, precision), setup.size,
-                                     setup.size, precision, setup.prime, 1)
-    # I − J B vanishes below s^known; its coefficients E_t for known ≤ t < precision:
     E = {}
     for t in range(known, precision):
         total = None
-        for a in range(max(0, t - known + 1), t + 1):
-            term = J[a] * inverse[t - a]
+        for a in range(t - known + 1, t + 1):
+            term = J[a - 1] * inverse[t - a]
             total = term if total is None else total + term
         E[t] = -total
     new = list(inverse)
@@ -308,21 +345,13 @@ def _schulz_step(setup: _Setup, roots, inverse: List, J0, precision: int) -> Lis
     return new
 
 
-def _jacobian_at_zero(setup: _Setup, fixed_point: FixedPoint):
-    roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
-    return _coefficient_matrices(jacobian_entries(setup, roots, 1), setup.size, setup.size,
-                                 1, setup.prime, 0)[0]
-
-
 def _newton_correction(setup: _Setup, inverse: List, values: List[Series], shift: int,
                        precision: int) -> List[Series]:
     """B·(F / s^shift) mod s^precision, for F = values (which vanish below s^shift)."""
     u, p = setup.size, setup.prime
     flat = []
     for v in values:
-        cs = v.coeffs()[shift:shift + precision]
-        flat.extend(cs)
-        flat.extend([0] * (precision - len(cs)))
+        flat.extend(v[t] for t in range(shift, shift + precision))
     G = flint.nmod_mat(u, precision, flat, p)
     total = inverse[0] * G
     for a in range(1, precision):
@@ -349,21 +378,53 @@ def _split_levels(setup: _Setup, flat: Sequence[Series]) -> List[List[Series]]:
     return [list(flat[o:o + setup.flag.k(i + 1)]) for i, o in enumerate(setup.offsets)]
 
 
+def _first_step(setup: _Setup, fixed_point: FixedPoint, inverse) -> List[List[Series]]:
+    """The Newton step from s^0 to s^1, in scalars: at the fixed point the product over the
+    level above vanishes exactly, so σF = s·Q_0 with Q_0 = κ_i D_i(0) T_j^e ∏_c (T_c − T_j),
+    D_i(0) = ∏ of the weights in I_{i+1} ∖ I_i."""
+    flag, p, T = setup.flag, setup.prime, setup.weights
+    chain = tuple(fixed_point) + (tuple(range(1, flag.n + 1)),)
+    terms = []
+    for i in range(1, flag.m + 1):
+        here, above, below = chain[i - 1], chain[i], chain[i - 2] if i > 1 else ()
+        ratio = setup.folded_slope[i - 1]
+        for l in above:
+            if l not in here:
+                ratio = ratio * T[l - 1] % p
+        e = flag.k(i) - flag.k(i - 1)
+        for j in here:
+            value = ratio * pow(T[j - 1], e, p) % p
+            for c in below:
+                value = value * (T[c - 1] - T[j - 1]) % p
+            terms.append(value)
+    correction = (inverse * flint.nmod_mat(setup.size, 1, terms, p)).entries()
+    roots, position = [], 0
+    for I in fixed_point:
+        level = []
+        for j in I:
+            level.append(flint.nmod_poly([T[j - 1], -correction[position]], p))
+            position += 1
+        roots.append(level)
+    return roots
+
+
 def lift_point(setup: _Setup, fixed_point: FixedPoint, order: int) -> LiftedPoint:
-    roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
     inverse = [_initial_inverse(setup, fixed_point)]
-    J0 = None
-    precision = 1
-    for target in _precision_schedule(order):
+    if order == 1:
+        roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
+        return LiftedPoint(fixed_point, tuple(tuple(level) for level in roots))
+    roots = _first_step(setup, fixed_point, inverse[0])
+    jacobian: List = []
+    precision = 2
+    for target in _precision_schedule(order)[1:]:
         need = target - precision
+        values, jacobian = _sweep(setup, roots, target, need if len(inverse) < need else 0,
+                                  jacobian)
         while len(inverse) < need:
-            if J0 is None:
-                J0 = _jacobian_at_zero(setup, fixed_point)
-            inverse = _schulz_step(setup, roots, inverse, J0, min(2 * len(inverse), need))
-        values = residuals(setup, roots, target)
+            inverse = _schulz_step(inverse, jacobian, min(2 * len(inverse), need))
         correction = _newton_correction(setup, inverse, values, precision, need)
         flat = [x for level in roots for x in level]
-        flat = [(x - c.left_shift(precision)).truncate(target) for x, c in zip(flat, correction)]
+        flat = [x - c.left_shift(precision) for x, c in zip(flat, correction)]
         roots = _split_levels(setup, flat)
         precision = target
     return LiftedPoint(fixed_point, tuple(tuple(level) for level in roots))
