@@ -14,8 +14,10 @@ without building polynomials.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import Callable, Dict, List, Optional, Sequence, Tuple
+import heapq
+import itertools
+from dataclasses import dataclass, field
+from typing import Callable, Dict, Iterator, List, Optional, Sequence, Tuple
 
 Monomial = Tuple[int, ...]
 
@@ -108,12 +110,13 @@ def is_member(f, basis: Sequence) -> bool:
 # ---------------------------------------------------------------------------------------
 # Buchberger with sugar and Gebauer–Möller
 
-@dataclass
+@dataclass(eq=False)
 class _Pair:
     i: int
     j: int
     lcm: Monomial
     sugar: int
+    alive: bool = True
 
 
 @dataclass
@@ -122,7 +125,10 @@ class _State:
     lms: List[Monomial]
     sugars: List[int]
     active: List[int]      # indices whose LM is not a multiple of a later LM
-    pairs: List[_Pair]
+    pairs: List[_Pair]     # the live pairs, for the Gebauer–Möller filter
+    key: Callable[[Monomial], tuple]
+    queue: List = field(default_factory=list)   # heap of (sugar, lcm key, serial, pair)
+    serial: Iterator[int] = field(default_factory=itertools.count)
 
 
 def _pair_sugar(state: _State, i: int, j: int, l: Monomial) -> int:
@@ -154,7 +160,17 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
         if not divides(lm_h, p.lcm):
             return True
         return lcm(state.lms[p.i], lm_h) == p.lcm or lcm(lm_h, state.lms[p.j]) == p.lcm
-    state.pairs = [p for p in state.pairs if survives(p)] + new_pairs
+    kept_pairs = []
+    for p in state.pairs:
+        if not p.alive:         # already treated
+            continue
+        if survives(p):
+            kept_pairs.append(p)
+        else:
+            p.alive = False     # left in the heap; skipped when popped
+    state.pairs = kept_pairs + new_pairs
+    for p in new_pairs:
+        heapq.heappush(state.queue, (p.sugar, state.key(p.lcm), next(state.serial), p))
     state.active = [g for g in state.active if not divides(lm_h, state.lms[g])] + [k]
 
 
@@ -165,21 +181,28 @@ def _s_polynomial(state: _State, pair: _Pair):
     return left - right
 
 
-def _select(pairs: List[_Pair], key) -> _Pair:
-    best = min(range(len(pairs)), key=lambda t: (pairs[t].sugar, key(pairs[t].lcm)))
-    return pairs.pop(best)
+def _select(state: _State) -> Optional[_Pair]:
+    """The live pair of least sugar, ties broken by the smaller lcm; None when done."""
+    while state.queue:
+        pair = heapq.heappop(state.queue)[-1]
+        if pair.alive:
+            pair.alive = False
+            return pair
+    return None
 
 
 def _buchberger(polys: List) -> List:
     """A (not yet reduced) Gröbner basis of the nonzero, monic input."""
     key = order_key(ordering_name(polys[0].context()))
-    state = _State([], [], [], [], [])
+    state = _State([], [], [], [], [], key)
     for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
         h = reduce_fully(f, [state.polys[a] for a in state.active])
         if not h.is_zero():
             _add_to_basis(state, monic(h), f.total_degree())
-    while state.pairs:
-        pair = _select(state.pairs, key)
+    while True:
+        pair = _select(state)
+        if pair is None:
+            break
         h = reduce_fully(_s_polynomial(state, pair), [state.polys[a] for a in state.active])
         if h.is_zero():
             continue
