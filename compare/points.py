@@ -106,6 +106,7 @@ class _Setup:
     top_derivative: Series
     weight_product: int                 # det S_{m+1} = T_1⋯T_n
     inverse_differences: Tuple[Tuple[int, ...], ...]   # 1/(T_j − T_l) mod p (0 on the diagonal)
+    top_lambda: Tuple[Series, ...]      # [1, e_1(T), …, e_n(T)]: λ_y(S_{m+1})
     rank_one_signs: object              # m×m matrix: −1 on the diagonal, +1 just above it
 
 
@@ -140,7 +141,9 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
     return _Setup(flag, p, weights, tuple(ps.constant(t, p) for t in weights),
                   tuple(c % p for c in spec.q_line), folded, row_sign, tuple(offsets),
                   len(level_of), tuple(level_of), top, top.derivative(),
-                  math.prod(weights) % p, inverse_differences, signs)
+                  math.prod(weights) % p, inverse_differences,
+                  tuple(ps.elementary_symmetric(tuple(ps.constant(t, p) for t in weights), 1, p)),
+                  signs)
 
 
 def check_weights(weights: Sequence[int], prime: int) -> None:
@@ -211,7 +214,7 @@ def _sweep(setup: _Setup, roots: Sequence[Sequence[Series]], f_order: int, j_ord
                 column = setup.offsets[i - 1] + a
                 for t in range(low):
                     inverse_columns[t][i - 1, column] = y[t]
-    out = []
+    out, entries = [], []
     row = 0
     for i in range(1, m + 1):
         above, below = levels[i + 1], levels[i - 1]
@@ -235,14 +238,14 @@ def _sweep(setup: _Setup, roots: Sequence[Sequence[Series]], f_order: int, j_ord
                     suffix = diffs[-1]
                     partial = prefix[k - 2]
                     total = partial
-                    _scatter(new_J, first, row, above_base + k - 1, partial)
+                    entries.append((row, above_base + k - 1, partial, first))
                     for b in range(k - 2, 0, -1):
                         partial = prefix[b - 1].mul_low(suffix, j_order)
                         suffix = suffix.mul_low(diffs[b], j_order)
                         total = total + partial
-                        _scatter(new_J, first, row, above_base + b, partial)
+                        entries.append((row, above_base + b, partial, first))
                     total = total + suffix
-                    _scatter(new_J, first, row, above_base, suffix)
+                    entries.append((row, above_base, suffix, first))
                     diagonal = -total
             if f_low > 0:
                 K = cofactor.mul_low(x if e == 1 else x.pow_trunc(e, f_low), f_low)
@@ -259,28 +262,24 @@ def _sweep(setup: _Setup, roots: Sequence[Sequence[Series]], f_order: int, j_ord
                         KC = with_K[c] if suffix is None else with_K[c].mul_low(suffix, low)
                         suffix = bdiffs[c] if suffix is None else suffix.mul_low(bdiffs[c], low)
                         q_part = q_part + KC
-                        _scatter(new_J, first, row, below_base + c, KC, 1)
+                        entries.append((row, below_base + c, KC, first - 1))
                     for t in range(low):
                         Q_rows[t][row, i - 1] = Q[t]
                     diagonal = diagonal - q_part.left_shift(1)
             if want_j:
-                _scatter(new_J, first, row, row, diagonal)
+                entries.append((row, row, diagonal, first))
             out.append(P)
             row += 1
     if want_j:
+        # entry (row, column, series, power of its coefficient that goes into J_first)
+        for t, matrix in enumerate(new_J):
+            for r, c, value, power in entries:
+                matrix[r, c] = value[power + t]
         signed = [setup.rank_one_signs * w for w in inverse_columns]
         for t in range(first, j_order):
             for a in range(t):
                 new_J[t - first] += Q_rows[a] * signed[t - 1 - a]
     return out, jacobian + new_J
-
-
-def _scatter(matrices: List, first: int, row: int, column: int, value: Series,
-             shift: int = 0) -> None:
-    """Coefficients s^first, s^{first+1}, … of one Jacobian entry (s^shift · value) into
-    their matrices."""
-    for t, matrix in enumerate(matrices, start=first - shift):
-        matrix[row, column] = value[t]
 
 
 # ---------------------------------------------------------------------------------------
@@ -455,7 +454,7 @@ def verify_points(setup: _Setup, points: Sequence[LiftedPoint], order: int) -> N
             raise LiftError(f"two Bethe points of {flag.name} coincide at s = 0 ({point.fixed_point})")
         seen.add(key)
         for value in residuals(setup, point.roots, order):
-            lowest = ps.valuation(value, order)
+            lowest = None if value.is_zero() else ps.valuation(value, order)
             if lowest is not None:
                 raise LiftError(f"the lift of {point.fixed_point} violates a Bethe equation "
                                 f"at s^{lowest}")
@@ -505,10 +504,11 @@ class _PointClasses:
     def lambda_S(self, i: int) -> List[Series]:
         """[1, e_1, …, e_{k_i}] of the level-i roots (S_0 = 0, S_{m+1} = the weights)."""
         if i not in self._lambda:
-            p = self.setup.prime
-            roots = () if i == 0 else (self.setup.top if i == self.setup.flag.m + 1
-                                       else self.point.roots[i - 1])
-            self._lambda[i] = ps.elementary_symmetric(roots, self.order, p)
+            if i == self.setup.flag.m + 1:
+                self._lambda[i] = self.setup.top_lambda
+            else:
+                roots = self.point.roots[i - 1] if i else ()
+                self._lambda[i] = ps.elementary_symmetric(roots, self.order, self.setup.prime)
         return self._lambda[i]
 
     def det_S(self, i: int) -> Series:
@@ -594,10 +594,14 @@ def generator_values(points: BethePoints, generators: Sequence[Generator]) -> Li
 
 @dataclass(frozen=True)
 class _Program:
-    """Monomials in the generators, each the product of an earlier one and one generator,
-    and for each polynomial its terms as (monomial slot, coefficient series in s)."""
-    steps: Tuple[Tuple[int, int], ...]                     # (earlier slot, generator index)
-    polys: Tuple[Tuple[Tuple[int, Series], ...], ...]
+    """A list of polynomials prepared for evaluation at many points.
+
+    Monomials in the generators are built once per point, each as an earlier monomial times
+    one generator.  A polynomial's terms are grouped by their coefficient series in s up to a
+    scalar (Whitney's are multiples of 1, q_i or 1 − q_i): each group is a scalar combination
+    of monomials (additions where the scalar is ±1), times its series once."""
+    steps: Tuple[Tuple[int, int], ...]      # (earlier slot, generator index)
+    polys: Tuple[Tuple[Tuple[Optional[Series], Tuple[Tuple[int, int], ...]], ...], ...]
 
 
 def _compile(polys: Sequence, generator_count: int, prime: int) -> _Program:
@@ -615,17 +619,21 @@ def _compile(polys: Sequence, generator_count: int, prime: int) -> _Program:
 
     compiled = []
     for poly in polys:
-        grouped: Dict[int, Dict[int, int]] = {}
+        by_monomial: Dict[int, Dict[int, int]] = {}
         for exponents, coefficient in poly.terms():
             target = slot(tuple(exponents[:generator_count]))
-            grouped.setdefault(target, {})[exponents[generator_count]] = int(coefficient)
-        terms = []
-        for target, by_power in sorted(grouped.items()):
+            by_monomial.setdefault(target, {})[exponents[generator_count]] = int(coefficient)
+        groups: Dict[Tuple[int, ...], List[Tuple[int, int]]] = {}
+        for target, by_power in sorted(by_monomial.items()):
             coefficients = [0] * (max(by_power) + 1)
             for power, c in by_power.items():
                 coefficients[power] = c
-            terms.append((target, ps.from_coefficients(coefficients, prime)))
-        compiled.append(tuple(terms))
+            lead = next(c for c in coefficients if c)
+            scale = pow(lead, -1, prime)
+            key = tuple(c * scale % prime for c in coefficients)
+            groups.setdefault(key, []).append((target, lead % prime))
+        compiled.append(tuple((None if key == (1,) else ps.from_coefficients(key, prime),
+                               tuple(terms)) for key, terms in groups.items()))
     return _Program(tuple(steps), tuple(compiled))
 
 
@@ -633,15 +641,26 @@ def _run(program: _Program, values: Sequence[Series], order: int, prime: int) ->
     monomials = [ps.constant(1, prime)]
     for earlier, g in program.steps:
         monomials.append(monomials[earlier].mul_low(values[g], order))
+    minus_one = prime - 1
     out = []
-    for terms in program.polys:
-        total = ps.constant(0, prime)
-        for target, coefficient in terms:
-            if coefficient.degree() == 0:
-                total = total + monomials[target] * coefficient[0]
-            else:
-                total = total + monomials[target].mul_low(coefficient, order)
-        out.append(total)
+    for groups in program.polys:
+        total = None
+        for series, terms in groups:
+            combination = None
+            for target, scalar in terms:
+                monomial = monomials[target]
+                if combination is None:
+                    combination = monomial if scalar == 1 else monomial * scalar
+                elif scalar == 1:
+                    combination = combination + monomial
+                elif scalar == minus_one:
+                    combination = combination - monomial
+                else:
+                    combination = combination + monomial * scalar
+            if series is not None:
+                combination = combination.mul_low(series, order)
+            total = combination if total is None else total + combination
+        out.append(total if total is not None else ps.constant(0, prime))
     return out
 
 
@@ -738,6 +757,8 @@ def check_holds(presentation: Presentation, points: BethePoints) -> HoldsResult:
         signatures.add(tuple(int(v[0]) for v in values))
         results = _run(program, values, N, p)
         for r, value in enumerate(results[:len(relations)]):
+            if value.is_zero():      # every series here is already truncated mod s^N
+                continue
             lowest = ps.valuation(value, N)
             if lowest is not None:
                 counts[r] = counts.get(r, 0) + 1

@@ -80,7 +80,7 @@ def elementary_symmetric(roots: Sequence[Series], order: int, prime: int) -> Lis
     """[e_0, e_1, …, e_k] of the roots: the coefficients of ∏ (1 + y·x) = λ_y."""
     out = [constant(1, prime)]
     for x in roots:
-        out.append(constant(0, prime))
-        for j in range(len(out) - 1, 0, -1):
+        out.append(out[-1].mul_low(x, order))
+        for j in range(len(out) - 2, 0, -1):
             out[j] = out[j] + out[j - 1].mul_low(x, order)
     return out
