@@ -26,7 +26,8 @@ from .interface import Generator
 from .meanings import Meaning
 from .userfile_container import Entry, FileSpec, GeneratorDecl, RelationDecl, UnitDecl
 from .userfile_syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Loc, Loop, Negate,
-                              Node, Num, Power, Symbol, Template, Toda, fail)
+                              Node, Num, Power, PresentationFileError, Symbol, Template, Toda,
+                              fail)
 
 MAX_DEGREE = 200              # total degree, y included, of any intermediate polynomial
 MAX_TERMS = 20_000            # terms of any intermediate polynomial
@@ -44,6 +45,7 @@ PARAMETER_NAME = re.compile(r"([Tq])([0-9]+)")
 @dataclass(frozen=True)
 class Expanded:
     """A file expanded for one flag type, in the canonical ring `ctx`."""
+    file: str
     flag: FlagType
     ctx: object
     generators: Tuple[Generator, ...]
@@ -107,7 +109,7 @@ def expand(spec: FileSpec, flag: FlagType) -> Expanded:
                      for i in range(1, flag.m + 1)}
     units = _expand_units(spec, st)
     relations = _expand_relations(spec, st)
-    return Expanded(flag, st.ctx, tuple(generators), tuple(relations), tuple(units),
+    return Expanded(spec.file, flag, st.ctx, tuple(generators), tuple(relations), tuple(units),
                     _expected_colength(spec, st))
 
 
@@ -720,8 +722,19 @@ def _require_unit(poly, at: Loc, st: _State) -> None:
 # ---------------------------------------------------------------------------------------
 # Into a caller's ring
 
+class _PrimeDividesDenominator(ValueError):
+    pass
+
+
 def transport(poly, expanded: Expanded, ring) -> object:
     """The image of a canonical polynomial (without y) in `ring` (a compare.algebra.Ring)."""
+    try:
+        return _transport(poly, expanded, ring)
+    except _PrimeDividesDenominator as error:
+        raise PresentationFileError(f"{error}; choose another prime", expanded.file) from None
+
+
+def _transport(poly, expanded: Expanded, ring) -> object:
     values = [ring.gen[g.name] for g in expanded.generators] + list(ring.T) + list(ring.q) + \
              [ring.zero]
     ctx = ring.ctx
@@ -797,7 +810,8 @@ def _residue(c, p: int) -> int:
         return int(c.p) % p
     denominator = int(c.q) % p
     if denominator == 0:
-        raise ValueError(f"a coefficient's denominator {c.q} is divisible by the prime {p}")
+        raise _PrimeDividesDenominator(f"the denominator of the coefficient {c} is divisible by "
+                                       f"the prime {p}")
     return int(c.p) * pow(denominator, -1, p) % p
 
 

@@ -334,6 +334,21 @@ def test_division_by_units_multiplies_the_relation_through():
     assert len(build_specialised(family, parse_flag("Gr(2;4)"), spec).units) == 1
 
 
+def test_prime_dividing_a_denominator_is_a_clean_error():
+    text = case_text("Gr(2;4)", LAMBDAS_GR24, """
+    [[relations]]
+    expr = "S1_1^2 / 3 - q1"
+    """)
+    family = family_from_text(text, "third.toml")
+    spec = algebra.Specialisation(3, (1, 2, 4, 5), (1,))
+    with pytest.raises(PresentationFileError, match="third.toml: the denominator of the "
+                                                    "coefficient 1/3 is divisible by the prime 3"):
+        build_specialised(family, parse_flag("Gr(2;4)"), spec)
+    spec = algebra.Specialisation(5, (1, 2, 3, 4), (2,))
+    (relation,) = build_specialised(family, parse_flag("Gr(2;4)"), spec).relations
+    assert str(relation.poly) == "2*S1_1^2 + 3"          # 1/3 = 2 and −2 = 3 mod 5
+
+
 def test_family_for_grassmannians_only_refuses_other_flags():
     text = """
     format = 1
