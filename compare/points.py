@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Dict, Iterable, List, Optional, Sequence, Tuple
+from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
@@ -107,6 +107,7 @@ class _Setup:
     weight_product: int                 # det S_{m+1} = T_1⋯T_n
     inverse_differences: Tuple[Tuple[int, ...], ...]   # 1/(T_j − T_l) mod p (0 on the diagonal)
     top_lambda: Tuple[Series, ...]      # [1, e_1(T), …, e_n(T)]: λ_y(S_{m+1})
+    inverse_weights: Tuple[int, ...]    # 1/T_j mod p
     rank_one_signs: object              # m×m matrix: −1 on the diagonal, +1 just above it
 
 
@@ -143,7 +144,7 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
                   len(level_of), tuple(level_of), top, top.derivative(),
                   math.prod(weights) % p, inverse_differences,
                   tuple(ps.elementary_symmetric(tuple(ps.constant(t, p) for t in weights), 1, p)),
-                  signs)
+                  tuple(pow(t, -1, p) for t in weights), signs)
 
 
 def check_weights(weights: Sequence[int], prime: int) -> None:
@@ -377,34 +378,87 @@ def _split_levels(setup: _Setup, flat: Sequence[Series]) -> List[List[Series]]:
     return [list(flat[o:o + setup.flag.k(i + 1)]) for i, o in enumerate(setup.offsets)]
 
 
-def _first_step(setup: _Setup, fixed_point: FixedPoint, inverse) -> List[List[Series]]:
-    """The Newton step from s^0 to s^1, in scalars: at the fixed point the product over the
-    level above vanishes exactly, so σF = s·Q_0 with Q_0 = κ_i D_i(0) T_j^e ∏_c (T_c − T_j),
-    D_i(0) = ∏ of the weights in I_{i+1} ∖ I_i."""
-    flag, p, T = setup.flag, setup.prime, setup.weights
+def _first_step(setup: _Setup, fixed_point: FixedPoint, inverse):
+    """The Newton step from s^0 to s^1 and the Jacobian coefficient J_1, all in scalars.
+
+    At the fixed point the product over the level above vanishes exactly, so σF = s·Q_0 with
+    Q_0 = K_0 C_0, K_0 = κ_i D_i(0) T_j^e, D_i(0) = ∏ of the weights in I_{i+1} ∖ I_i and
+    C_0 = ∏_{c ∈ I_{i−1}} (T_c − T_j).  J_1 needs only these and the s^1 coefficients ξ of
+    the roots: the s^1 coefficient of ∏_b (α_b + β_b s) is Σ_b β_b ∏_{b'≠b} α_b', and
+    here α_b = T_b − T_j vanishes for the root b* above that starts at T_j.  Returns the roots
+    mod s^2 and J_1 (it agrees with `_sweep` at j_order = 2, checked in the tests)."""
+    flag, p, T, m, u = setup.flag, setup.prime, setup.weights, setup.flag.m, setup.size
+    inverse_differences = setup.inverse_differences
     chain = tuple(fixed_point) + (tuple(range(1, flag.n + 1)),)
-    terms = []
-    for i in range(1, flag.m + 1):
+    Q0, K0, rows = [], [], []
+    for i in range(1, m + 1):
         here, above, below = chain[i - 1], chain[i], chain[i - 2] if i > 1 else ()
         ratio = setup.folded_slope[i - 1]
         for l in above:
             if l not in here:
                 ratio = ratio * T[l - 1] % p
         e = flag.k(i) - flag.k(i - 1)
-        for j in here:
-            value = ratio * pow(T[j - 1], e, p) % p
+        for a, j in enumerate(here):
+            K = ratio * pow(T[j - 1], e, p) % p
+            value = K
             for c in below:
                 value = value * (T[c - 1] - T[j - 1]) % p
-            terms.append(value)
-    correction = (inverse * flint.nmod_mat(setup.size, 1, terms, p)).entries()
+            K0.append(K)
+            Q0.append(value)
+            rows.append((i, a, j))
+    correction = (inverse * flint.nmod_mat(u, 1, Q0, p)).entries()
+    xi = [-int(c) % p for c in correction]          # s^1 coefficients of the roots
     roots, position = [], 0
     for I in fixed_point:
-        level = []
-        for j in I:
-            level.append(flint.nmod_poly([T[j - 1], -correction[position]], p))
-            position += 1
-        roots.append(level)
-    return roots
+        roots.append([flint.nmod_poly([T[j - 1], xi[position + a]], p) for a, j in enumerate(I)])
+        position += len(I)
+
+    J1 = flint.nmod_mat(u, u, p)
+    Q_rows = flint.nmod_mat(u, m, p)
+    inverse_columns = flint.nmod_mat(m, u, p)
+    for r, (i, a, j) in enumerate(rows):
+        inverse_columns[i - 1, r] = setup.inverse_weights[j - 1]
+        Q_rows[r, i - 1] = Q0[r]
+        above, below = chain[i], chain[i - 2] if i > 1 else ()
+        differences = inverse_differences[j - 1]          # 1/(T_j − T_l)
+        # the factors X_b − x over the level above: α_b = T_b − T_j, β_b = ξ_b − ξ_r; leaving
+        # out b ≠ b* keeps α_b* = 0, so only the term β_b* ∏_{b'≠b,b*} α_b' = β_b* Π/α_b survives
+        above_base = setup.offsets[i] if i < m else None
+        beta = [((xi[above_base + b] if above_base is not None else 0) - xi[r]) % p
+                for b in range(len(above))]
+        star = above.index(j)
+        Pi = 1
+        for l in above:
+            if l != j:
+                Pi = Pi * (T[l - 1] - T[j - 1]) % p
+        diagonal, star_entry = 0, 0
+        for b, l in enumerate(above):
+            if b == star:
+                continue
+            over_alpha = -differences[l - 1]                  # 1/α_b = −1/(T_j − T_l)
+            star_entry += beta[b] * over_alpha
+            entry = beta[star] * Pi * over_alpha % p
+            diagonal -= entry
+            if above_base is not None:
+                J1[r, above_base + b] = entry
+        star_entry = Pi * star_entry % p                    # Π Σ_{b≠b*} β_b/α_b
+        diagonal -= star_entry
+        if above_base is not None:
+            J1[r, above_base + star] = star_entry
+        # the q-term s·K·C: below entries K_0 ∏_{c'≠c} (T_c' − T_j), and −(e−1)Q_0/x_0 … on the diagonal
+        q_part = -(flag.k(i) - flag.k(i - 1)) * Q0[r] * setup.inverse_weights[j - 1]
+        if below:
+            below_base = setup.offsets[i - 2]
+            for c, l in enumerate(below):
+                entry = K0[r]
+                for l2 in below:
+                    if l2 != l:
+                        entry = entry * (T[l2 - 1] - T[j - 1]) % p
+                q_part += entry
+                J1[r, below_base + c] = entry
+        J1[r, r] = (diagonal - q_part) % p
+    J1 += Q_rows * (setup.rank_one_signs * inverse_columns)
+    return roots, J1
 
 
 def lift_point(setup: _Setup, fixed_point: FixedPoint, order: int) -> LiftedPoint:
@@ -412,8 +466,8 @@ def lift_point(setup: _Setup, fixed_point: FixedPoint, order: int) -> LiftedPoin
     if order == 1:
         roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
         return LiftedPoint(fixed_point, tuple(tuple(level) for level in roots))
-    roots = _first_step(setup, fixed_point, inverse[0])
-    jacobian: List = []
+    roots, J1 = _first_step(setup, fixed_point, inverse[0])
+    jacobian: List = [J1]
     precision = 2
     for target in _precision_schedule(order)[1:]:
         need = target - precision
@@ -569,10 +623,6 @@ def meaning_problem(meaning: Meaning, flag: FlagType) -> Optional[str]:
     if not 1 <= j <= bound:
         return f"{meaning.text}: index {j} outside 1…{bound}"
     return None
-
-
-def _classes(points: BethePoints, point: LiftedPoint) -> _PointClasses:
-    return _PointClasses(_setup(points.flag, points.spec), point, points.order)
 
 
 def generator_values(points: BethePoints, generators: Sequence[Generator]) -> List[Dict[str, Series]]:

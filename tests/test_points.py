@@ -399,3 +399,14 @@ def test_points_bad_input_is_one_line_exit_2(args, fragment):
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1, result.stderr
     assert fragment in lines[0]
+
+
+@pytest.mark.parametrize("case", ["P2", "Gr(2;5)", "Fl(4)", "Fl(1,3;5)", "Fl(2,3;5)"])
+def test_scalar_first_jacobian_coefficient_matches_the_series_sweep(case):
+    # the first Newton step builds J_1 from scalars; the general sweep must give the same
+    flag = parse_flag(case)
+    setup = points._setup(flag, line_spec(flag))
+    for fixed_point in flag.fixed_points():
+        roots, J1 = points._first_step(setup, fixed_point, points._initial_inverse(setup, fixed_point))
+        _, from_series = points._sweep(setup, roots, 2, 2, [])
+        assert from_series == [J1]
