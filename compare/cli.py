@@ -120,7 +120,8 @@ def cmd_check(args) -> int:
     from .engine import check_case, check_summary_text
     families = [resolve_family(name) for name in args.presentations]
     result = check_case(args.case, families, seed=args.seed, prime=args.prime,
-                        equivariant=not args.plain)
+                        equivariant=not args.plain, order=args.order, trials=args.trials,
+                        method=args.method)
     emit(args, result, check_summary_text(result))
     return 0
 
@@ -189,6 +190,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--seed", type=int, help="seed for the random specialisation (recorded)")
     p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
     p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
+    p.add_argument("--order", type=positive_int, default=6,
+                   help="truncation order N of the Bethe points (relations checked mod s^N)")
+    p.add_argument("--trials", type=positive_int, default=1,
+                   help="independent primes/specialisations; all must agree")
+    p.add_argument("--method", choices=["auto", "groebner", "points", "both"], default="auto",
+                   help="auto: Gröbner bases up to colength 150, Bethe points always")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.set_defaults(run=cmd_check)
 

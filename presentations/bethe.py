@@ -84,4 +84,5 @@ FAMILY = Family(
     relations=relations,
     units=units,
     expected_colength=expected_colength,
+    solved_by_points=True,
 )

@@ -7,7 +7,11 @@ A family is a plain record of functions (no class hierarchy):
 * `units(flag, ring)`           → elements of `ring` that must be invertible
                                   (the engine adjoins one inverse for their product);
 * `expected_colength(flag)`     → colength of a correct presentation (usually the rank);
-* `unsupported(flag)`           → None, or the reason the family has nothing for this flag.
+* `unsupported(flag)`           → None, or the reason the family has nothing for this flag;
+* `solved_by_points`            → True for the Bethe equations themselves: the lifted Bethe
+                                  points are their solutions, and the ring they present is by
+                                  definition the ring of functions on those points (DESIGN.md
+                                  §2.3), the reference every other family is measured against.
 
 `ring` is a `compare.algebra.Ring`: builders read generators from `ring.gen[name]` and the
 parameters from `ring.T[j-1]`, `ring.q[i-1]`, so one builder serves the symbolic, the
@@ -49,6 +53,7 @@ class Family:
     units: Callable[[FlagType, algebra.Ring], list] = lambda flag, ring: []
     expected_colength: Callable[[FlagType], int] = lambda flag: flag.rank
     unsupported: Callable[[FlagType], Optional[str]] = lambda flag: None
+    solved_by_points: bool = False
 
 
 @dataclass(frozen=True)

@@ -12,6 +12,9 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from typing import Optional
+
+from .flagtype import FlagType
 
 KINDS = ("lambda_S", "lambda_Q", "vieta_aux", "toda_L", "root")
 
@@ -77,3 +80,17 @@ def lambda_S_name(i: int, j: int) -> str:
 
 def lambda_Q_name(i: int, j: int) -> str:
     return f"Q{i}_{j}"
+
+
+def meaning_is_valid(meaning: Meaning, flag: FlagType) -> Optional[str]:
+    """None if the meaning makes sense for this flag type, else why not."""
+    i, j = meaning.level, meaning.index
+    if meaning.kind == "toda_L":
+        return None if 1 <= i <= flag.n and flag.is_complete else \
+            f"{meaning.text} needs a complete flag and 1 ≤ i ≤ n"
+    if not 1 <= i <= flag.m:
+        return f"{meaning.text}: level {i} is not among 1…{flag.m}"
+    bound = flag.d(i) if meaning.kind in ("lambda_Q", "vieta_aux") else flag.k(i)
+    if not 1 <= j <= bound:
+        return f"{meaning.text}: index {j} is not among 1…{bound}"
+    return None

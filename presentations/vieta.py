@@ -10,12 +10,13 @@ Two forms (sources for the equations: arXiv:2208.01091, arXiv:2310.03826):
 
 * auxiliary-root form ("vieta"): new generators w_{i,j} = e_j(Y^(i)), 1 ≤ j ≤ d_i, and the
   coefficients of y^1…y^{k_{i+1}} of det S_i·λ_y(S_i)·λ_y(Y^(i)) − M_i(y);
-* eliminated form ("vieta-eliminated"): only λ(S); the k_i coefficients of the remainder of
-  the division of the reversal y^{k_{i+1}}·M_i(1/y) by the monic y^{k_i}·λ_{1/y}(S_i).
-  Why the reversal: λ_y(S_i) has constant term 1, so it divides M_i(y) exactly when its
-  reversal divides the reversal of M_i (derived here; the tests confirm the resulting ideal),
-  and dividing by a monic polynomial needs no inverse of det S_i, so the relations stay
-  polynomial and small.
+* eliminated form ("vieta-eliminated"): only λ(S); λ_y(S_i) divides M_i(y) — i.e. the
+  remainder of the division vanishes — exactly when the power series M_i(y)/λ_y(S_i) is a
+  polynomial of degree ≤ d_i, i.e. its coefficients of y^{d_i+1} … y^{k_{i+1}} vanish: k_i
+  relations per level.  Why this form (derived here; the tests confirm the resulting ideal):
+  λ_y(S_i) has constant term 1, so the power series division needs no inverse of det S_i
+  and the relations stay polynomial and small, where the remainder of the division by the
+  leading coefficient det S_i would need its inverse.
 
 In both forms det S_i must be invertible; it is declared a unit and the engine adjoins the
 inverse (which is how spurious solutions with det S_i = 0 are excluded).
@@ -75,26 +76,14 @@ def auxiliary_relations(flag: FlagType, ring: algebra.Ring) -> List[Relation]:
     return out
 
 
-def remainder_by_monic(numerator: list, divisor: list, zero) -> list:
-    """Remainder of polynomial division (lists, lowest degree first) by a monic divisor."""
-    rest = list(numerator)
-    top = len(divisor) - 1
-    for power in range(len(rest) - 1, top - 1, -1):
-        c = rest[power]
-        if c == zero:
-            continue
-        for a in range(top + 1):
-            rest[power - top + a] = rest[power - top + a] - c * divisor[a]
-    return rest[:top]
-
-
 def eliminated_relations(flag: FlagType, ring: algebra.Ring) -> List[Relation]:
     out = []
     for i in range(1, flag.m + 1):
-        reversed_M = cleared_N(flag, ring, i)[::-1]
-        reversed_lambda = lambda_y_S(flag, ring, i)[::-1]          # monic: leading 1
-        remainder = remainder_by_monic(reversed_M, reversed_lambda, ring.zero)
-        out += [Relation(f"level {i}, remainder y^{j}", c) for j, c in enumerate(remainder)]
+        top = flag.k(i + 1)
+        quotient = algebra.ypoly_divide_series(cleared_N(flag, ring, i), lambda_y_S(flag, ring, i),
+                                               top + 1, ring.zero)
+        out += [Relation(f"level {i}, quotient y^{j}", quotient[j])
+                for j in range(flag.d(i) + 1, top + 1)]
     return out
 
 

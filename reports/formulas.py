@@ -18,13 +18,24 @@ def _symbol(name: str) -> sympy.Symbol:
     return sympy.Symbol(name)
 
 
-def to_sympy(poly, names: Sequence[str]) -> sympy.Expr:
-    """An fmpq/fmpz/nmod mpoly as a SymPy expression in symbols with the ring's names."""
+def _coefficient(c, modulus: int, symmetric: bool) -> sympy.Rational:
+    if hasattr(c, "q") and not modulus:
+        return sympy.Rational(int(c.p), int(c.q))
+    value = int(c)
+    if symmetric and modulus and value > modulus // 2:
+        value -= modulus   # residues mod p read better as small signed numbers
+    return sympy.Integer(value)
+
+
+def to_sympy(poly, names: Sequence[str], *, symmetric: bool = False) -> sympy.Expr:
+    """An fmpq/fmpz/nmod mpoly as a SymPy expression in symbols with the ring's names.
+
+    With `symmetric`, residues mod p are shown as representatives in (−p/2, p/2]."""
     symbols = [_symbol(name) for name in names]
+    modulus = poly.context().modulus() if hasattr(poly.context(), "modulus") else 0
     total = sympy.Integer(0)
     for exponents, coefficient in poly.terms():
-        term = sympy.Rational(int(coefficient.p), int(coefficient.q)) \
-            if hasattr(coefficient, "q") else sympy.Integer(int(coefficient))
+        term = _coefficient(coefficient, modulus, symmetric)
         for symbol, e in zip(symbols, exponents):
             if e:
                 term *= symbol ** int(e)
@@ -32,8 +43,8 @@ def to_sympy(poly, names: Sequence[str]) -> sympy.Expr:
     return total
 
 
-def formula(poly, names: Sequence[str], *, latex: bool = False) -> str:
-    expr = to_sympy(poly, names)
+def formula(poly, names: Sequence[str], *, latex: bool = False, symmetric: bool = False) -> str:
+    expr = to_sympy(poly, names, symmetric=symmetric)
     return sympy.latex(expr) if latex else sympy.sstr(expr)
 
 

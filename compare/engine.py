@@ -1,0 +1,406 @@
+"""The comparison engine: one case, several presentations, one verdict with its certificate.
+
+For every presentation it measures
+  * colength at a random specialisation of T and q (Gröbner basis mod p, units inverted),
+  * classical colength (the same at q = 0),
+  * "holds": every relation vanishes at every Bethe point to order s^N (DESIGN.md §2.3),
+  * "complete": holds, classical colength = expected, and the generators separate the fixed
+    points — the Nakayama-type criterion of DESIGN.md §3 (arXiv:2310.03826).
+For every pair it decides agreement:
+  * through the common ring of λ-classes (compare/transport.py) when both presentations can
+    be moved there exactly: equal reduced Gröbner bases, with witnesses both ways otherwise;
+  * otherwise through the Bethe points: two complete presentations present the same ring.
+All randomness comes from one seed; the certificate records everything needed to repeat it.
+"""
+from __future__ import annotations
+
+import random
+import time
+from dataclasses import dataclass, field, replace
+from typing import Dict, List, Optional, Sequence
+
+import flint
+
+from presentations.flagtype import FlagType
+from presentations.interface import Family, Presentation, build_specialised
+
+from . import algebra, groebner, points, transport
+
+# Gröbner bases grow superlinearly with the colength; above this the default method leaves a
+# presentation to the Bethe points (DESIGN.md §3: "use the points wherever they decide").
+GROEBNER_COLENGTH_LIMIT = 150
+DEFAULT_ORDER = 6
+MAX_WITNESSES = 3
+METHODS = ("auto", "groebner", "points", "both")
+
+
+@dataclass
+class PresentationReport:
+    name: str
+    generators: int
+    relations: int
+    expected_colength: int
+    colength: Optional[int] = None
+    classical_colength: Optional[int] = None
+    holds: Optional[bool] = None
+    separates: Optional[bool] = None
+    complete: Optional[bool] = None
+    failures: List[dict] = field(default_factory=list)
+    notes: List[str] = field(default_factory=list)
+
+    def as_dict(self) -> dict:
+        return dict(self.__dict__)
+
+
+@dataclass
+class PairReport:
+    a: str
+    b: str
+    verdict: str                 # agree | disagree | inconclusive
+    method: str                  # groebner | points
+    reason: str
+    witnesses: List[dict] = field(default_factory=list)
+
+    def as_dict(self) -> dict:
+        return dict(self.__dict__)
+
+
+# ---------------------------------------------------------------------------------------
+# Specialisations and seeds
+
+def trial_prime(prime: int, trial: int) -> int:
+    """The given prime for trial 0, then distinct primes further down, one per trial."""
+    if trial == 0:
+        return prime
+    candidate = prime - trial * (1 << 32)
+    while not flint.fmpz(candidate).is_prime():
+        candidate -= 1
+    return candidate
+
+
+def trial_specialisations(flag: FlagType, seed: int, prime: int, equivariant: bool):
+    """Residues for q (Gröbner route) and a line for q (points route), same weights."""
+    residues = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime,
+                                           equivariant=equivariant)
+    line = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime,
+                                       equivariant=equivariant, q_on_line=True)
+    return residues, line
+
+
+def classical(spec: algebra.Specialisation) -> algebra.Specialisation:
+    return replace(spec, q=tuple(0 for _ in spec.q))
+
+
+# ---------------------------------------------------------------------------------------
+# Gröbner route
+
+def inverse_names(count: int) -> tuple:
+    return tuple(f"u{k}" for k in range(1, count + 1))
+
+
+def with_inverses(polys: list, units: Sequence, inverses: Sequence) -> list:
+    """The ideal with each unit inverted by its own new variable: u_k·unit_k − 1.
+
+    One variable per unit rather than one for their product: the product has high degree
+    and slows Buchberger's algorithm down by orders of magnitude (measured on Fl(5))."""
+    return list(polys) + [u * unit - 1 for u, unit in zip(inverses, units)]
+
+
+def own_colength(family: Family, flag: FlagType, spec: algebra.Specialisation) -> Optional[int]:
+    """Colength of the presentation in its own generators (declared units inverted)."""
+    presentation = build_specialised(family, flag, spec)
+    if presentation.units:
+        names = inverse_names(len(presentation.units))
+        presentation = build_specialised(family, flag, spec, extra=names)
+        polys = with_inverses([r.poly for r in presentation.relations], presentation.units,
+                              [presentation.ring.extra[n] for n in names])
+    else:
+        polys = [r.poly for r in presentation.relations]
+    return groebner.colength(groebner.groebner_basis(polys))
+
+
+@dataclass
+class Transported:
+    relations: list            # Relation records in the common ring
+    basis: list                # reduced Gröbner basis of the transported ideal
+    colength: Optional[int]
+
+
+@dataclass
+class CommonRing:
+    ring: algebra.Ring
+    units: list                # elements of `ring`, each inverted by its own variable
+    inverses: list
+
+
+def common_setup(families: Sequence[Family], flag: FlagType, spec: algebra.Specialisation
+                 ) -> CommonRing:
+    """The common λ-class ring with det S_1 … det S_m and every other unit that a movable
+    presentation declares inverted (each by its own variable)."""
+    plain = transport.common_ring(flag, spec)
+    units = [transport.det_S(flag, plain, i) for i in range(1, flag.m + 1)]
+    for family in families:
+        for unit in transport.transport_units(build_specialised(family, flag, spec), plain,
+                                              spec) or []:
+            if not unit.is_constant() and all(unit != u and unit != -u for u in units):
+                units.append(unit)
+    names = inverse_names(len(units))
+    C = transport.common_ring(flag, spec, extra=names)
+    embedding = [C.gen[name] for name in plain.ctx.names()]
+    return CommonRing(C, [u.compose(*embedding, ctx=C.ctx) for u in units],
+                      [C.extra[n] for n in names])
+
+
+def transported_ideal(family: Family, flag: FlagType, spec: algebra.Specialisation,
+                      common: CommonRing) -> Optional[Transported]:
+    relations = transport.transport(build_specialised(family, flag, spec), common.ring, spec)
+    if relations is None:
+        return None
+    basis = groebner.groebner_basis(with_inverses([r.poly for r in relations], common.units,
+                                                  common.inverses))
+    return Transported(relations, basis, groebner.colength(basis))
+
+
+def compare_by_groebner(a: PresentationReport, b: PresentationReport, A: Transported,
+                        B: Transported, C_names) -> PairReport:
+    if a.colength != b.colength:
+        return PairReport(a.name, b.name, "disagree", "groebner",
+                          f"colengths differ at the same specialisation: "
+                          f"{a.colength} and {b.colength}")
+    a, b = a.name, b.name
+    if A.basis == B.basis:
+        return PairReport(a, b, "agree", "groebner",
+                          "equal reduced Gröbner bases in the common λ-class ring")
+    witnesses = []
+    for source, target, X, Y in ((a, b, A, B), (b, a, B, A)):
+        found = 0
+        for relation in X.relations:
+            remainder = groebner.normal_form(relation.poly, Y.basis)
+            if remainder != 0:
+                witnesses.append({"relation_of": source, "not_in": target,
+                                  "relation": relation.label,
+                                  "normal_form": _formula(remainder, C_names)})
+                found += 1
+                if found >= MAX_WITNESSES:
+                    break
+    reason = "the transported ideals differ"
+    if not witnesses:
+        reason += " (only in the inverted units)"
+    return PairReport(a, b, "disagree", "groebner", reason, witnesses)
+
+
+def _formula(poly, names) -> str:
+    from reports.formulas import formula
+    return formula(poly, names, symmetric=True)
+
+
+# ---------------------------------------------------------------------------------------
+# Points route
+
+def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Specialisation,
+                   order: int, reports: Dict[str, PresentationReport]) -> dict:
+    """Fill holds / separates / failures from the Bethe points; returns the lift record."""
+    lifted = points.lift_points(flag, line, order)
+    for family in families:
+        report = reports[family.name]
+        result = points.check_holds_family(family, flag, lifted)
+        report.holds = result.holds
+        report.separates = result.separates
+        report.failures = [failure.as_dict() for failure in result.failures[:MAX_WITNESSES]]
+        report.failures += [dict(failure.as_dict(), relation=f"unit {failure.unit} vanishes")
+                            for failure in result.unit_failures[:MAX_WITNESSES]]
+    return {"order": order, "q_line": list(line.q_line), "points": len(lifted.points)}
+
+
+def decide_completeness(report: PresentationReport, family: Family) -> None:
+    if report.holds is None:
+        report.complete = None
+    elif family.solved_by_points:
+        # The reference: complete when the points are its solutions, and its own colength
+        # (a consistency check, where a Gröbner basis was affordable) is the expected one.
+        report.complete = bool(report.holds and report.separates) and \
+            report.classical_colength in (None, report.expected_colength)
+    elif report.classical_colength is None:
+        report.complete = None
+    else:
+        report.complete = bool(report.holds and report.separates
+                               and report.classical_colength == report.expected_colength)
+
+
+def compare_by_points(a: PresentationReport, b: PresentationReport) -> PairReport:
+    if a.complete and b.complete:
+        return PairReport(a.name, b.name, "agree", "points",
+                          "both present the ring of functions on the Bethe points")
+    complete, other = (a, b) if a.complete else (b, a)
+    if complete.complete and other.complete is False:
+        return PairReport(a.name, b.name, "disagree", "points",
+                          f"{other.name} does not present the ring: " + why_incomplete(other),
+                          list(other.failures))
+    undecided = [r.name for r in (a, b) if r.complete is None]
+    if undecided:
+        return PairReport(a.name, b.name, "inconclusive", "points",
+                          "no common generators to compare the ideals, and completeness of "
+                          + " and ".join(undecided) + " is not decided")
+    return PairReport(a.name, b.name, "inconclusive", "points",
+                      "no common generators to compare the ideals, and neither presentation "
+                      "presents the ring")
+
+
+def why_incomplete(report: PresentationReport) -> str:
+    if report.holds is False:
+        return "some relations do not vanish at the Bethe points"
+    if report.classical_colength != report.expected_colength:
+        return (f"classical colength {report.classical_colength} ≠ expected "
+                f"{report.expected_colength}")
+    if report.separates is False:
+        return "its generators do not separate the fixed points"
+    return "undecided"
+
+
+# ---------------------------------------------------------------------------------------
+# One trial and the whole check
+
+def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: int,
+              equivariant: bool, order: int, method: str) -> dict:
+    residues, line = trial_specialisations(flag, seed, prime, equivariant)
+    use_points = method in ("points", "both", "auto")
+    reports: Dict[str, PresentationReport] = {}
+    timings = {"groebner": 0.0, "points": 0.0}
+    for family in families:
+        probe = build_specialised(family, flag, residues)
+        reports[family.name] = PresentationReport(
+            family.name, len(probe.generators), len(probe.relations), probe.expected_colength)
+
+    started = time.perf_counter()
+    by_groebner = [f for f in families if method in ("groebner", "both") or (
+        method == "auto" and reports[f.name].expected_colength <= GROEBNER_COLENGTH_LIMIT)]
+    for family in families:
+        if family not in by_groebner and method == "auto":
+            reports[family.name].notes.append(
+                f"no Gröbner basis: expected colength {reports[family.name].expected_colength} "
+                f"is above the automatic limit {GROEBNER_COLENGTH_LIMIT} (use --method both)")
+    common, transported = groebner_reports(by_groebner, flag, residues, reports)
+    use_groebner = bool(by_groebner)
+    timings["groebner"] = time.perf_counter() - started
+
+    started = time.perf_counter()
+    points_record = None
+    if use_points:
+        try:
+            points_record = points_reports(families, flag, line, order, reports)
+        except points.LiftError as error:
+            for report in reports.values():
+                report.notes.append(f"Bethe points unavailable: {error}")
+    timings["points"] = time.perf_counter() - started
+    for family in families:
+        decide_completeness(reports[family.name], family)
+
+    C_names = common.ring.ctx.names() if common else ()
+    pairs = []
+    for x in range(len(families)):
+        for y in range(x + 1, len(families)):
+            a, b = families[x].name, families[y].name
+            A, B = transported.get(a), transported.get(b)
+            if A is not None and B is not None:
+                pair = compare_by_groebner(reports[a], reports[b], A, B, C_names)
+                _attach_points_evidence(pair, reports[a], reports[b])
+            else:
+                pair = compare_by_points(reports[a], reports[b])
+            pairs.append(pair)
+
+    certificate = residues.record()
+    certificate.update({"q_line": list(line.q_line), "order": order if use_points else None,
+                        "method": _method_label(use_groebner, use_points),
+                        "exact": False, "kind": "probabilistic"})
+    return {"certificate": certificate, "presentations": reports, "pairs": pairs,
+            "timings": timings, "points": points_record}
+
+
+def groebner_reports(families: Sequence[Family], flag: FlagType,
+                     residues: algebra.Specialisation, reports: Dict[str, PresentationReport]):
+    """Colengths (generic and q = 0) and transported ideals of the given presentations."""
+    transported: Dict[str, Optional[Transported]] = {}
+    if not families:
+        return None, transported
+    common = common_setup(families, flag, residues)
+    for family in families:
+        report = reports[family.name]
+        report.colength = own_colength(family, flag, residues)
+        report.classical_colength = own_colength(family, flag, classical(residues))
+        moved = transported_ideal(family, flag, residues, common)
+        if moved is not None and moved.colength != report.colength:
+            report.notes.append(
+                f"not compared in the common λ-class ring: moving it there changes the "
+                f"colength from {report.colength} to {moved.colength}")
+            moved = None
+        transported[family.name] = moved
+    return common, transported
+
+
+def _attach_points_evidence(pair: PairReport, a: PresentationReport, b: PresentationReport):
+    """Where the points know more (which relation fails, where, at what order), add it."""
+    for report in (a, b):
+        if report.holds is False:
+            for failure in report.failures:
+                pair.witnesses.append({"relation_of": report.name, "fails_at_points": failure})
+
+
+def _method_label(use_groebner: bool, use_points: bool) -> str:
+    return {(True, True): "both", (True, False): "groebner", (False, True): "points"}[
+        (use_groebner, use_points)]
+
+
+def overall_verdict(presentations: Dict[str, PresentationReport], pairs: List[PairReport]):
+    if any(p.verdict == "disagree" for p in pairs):
+        return "disagree", "at least one pair of presentations differs"
+    incomplete = [r.name for r in presentations.values() if r.complete is False]
+    if incomplete:
+        return "disagree", "does not present the ring: " + ", ".join(incomplete)
+    if pairs and all(p.verdict == "agree" for p in pairs) and \
+            all(r.complete for r in presentations.values()):
+        return "agree", "every pair agrees and every presentation is complete"
+    if not pairs and all(r.complete for r in presentations.values()):
+        return "agree", "the presentation is complete"
+    undecided = [r.name for r in presentations.values() if r.complete is None]
+    reason = "completeness not decided for " + ", ".join(undecided) if undecided else \
+        "some pair is inconclusive"
+    return "inconclusive", reason
+
+
+def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int] = None,
+               prime: int = algebra.DEFAULT_PRIME, equivariant: bool = True,
+               order: int = DEFAULT_ORDER, trials: int = 1, method: str = "auto") -> dict:
+    """Run `trials` independent trials; the verdict stands only if all trials agree."""
+    if seed is None:
+        seed = random.SystemRandom().randrange(2**32)
+    outcomes = []
+    for t in range(trials):
+        outcome = run_trial(flag, families, seed=seed + t, prime=trial_prime(prime, t),
+                            equivariant=equivariant, order=order, method=method)
+        outcome["verdict"], outcome["reason"] = overall_verdict(outcome["presentations"],
+                                                                outcome["pairs"])
+        outcomes.append(outcome)
+    first = outcomes[0]
+    verdicts = {o["verdict"] for o in outcomes}
+    verdict, reason = (first["verdict"], first["reason"]) if len(verdicts) == 1 else \
+        ("inconclusive", "independent trials reached different verdicts: "
+         + ", ".join(o["verdict"] for o in outcomes))
+    certificate = dict(first["certificate"])
+    certificate["seed"] = seed
+    certificate["trials"] = [o["certificate"] for o in outcomes]
+    return {
+        "case": flag.name,
+        "rank": flag.rank,
+        "equivariant": equivariant,
+        "verdict": verdict,
+        "reason": reason,
+        "certificate": certificate,
+        "presentations": {name: r.as_dict() for name, r in first["presentations"].items()},
+        "pairs": [p.as_dict() for p in first["pairs"]],
+        "timings": first["timings"],
+    }
+
+
+def check_summary_text(result: dict) -> str:
+    from reports.summary import check_text
+    return check_text(result)
