@@ -47,6 +47,8 @@ def draw_specialisation(n: int, m: int, *, seed: Optional[int] = None,
     """Random distinct nonzero weights and random q residues (or a random line for q).
 
     The seed is drawn when not given and always recorded, so the draw can be repeated."""
+    if equivariant and prime - 2 < n:
+        raise ValueError(f"the prime {prime} is too small for {n} distinct weights")
     if seed is None:
         seed = random.SystemRandom().randrange(2**32)
     rng = random.Random(seed)

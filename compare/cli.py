@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 from typing import List, Optional
 
@@ -119,6 +120,8 @@ def cmd_relations(args) -> int:
 def cmd_check(args) -> int:
     from .engine import check_case, check_summary_text
     families = [resolve_family(name) for name in args.presentations]
+    if not args.plain and args.prime - 2 < args.case.n:
+        raise UsageError(f"--prime {args.prime} is too small for {args.case.n} distinct weights")
     result = check_case(args.case, families, seed=args.seed, prime=args.prime,
                         equivariant=not args.plain, order=args.order, trials=args.trials,
                         method=args.method)
@@ -240,6 +243,10 @@ def main(argv: Optional[List[str]] = None) -> int:
     except KeyboardInterrupt:
         print("ringmatch: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # The reader went away (e.g. `| head`); stop quietly like other command-line tools.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 141
 
 
 if __name__ == "__main__":
