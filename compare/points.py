@@ -108,6 +108,7 @@ class _Setup:
     inverse_differences: Tuple[Tuple[int, ...], ...]   # 1/(T_j − T_l) mod p (0 on the diagonal)
     top_lambda: Tuple[Series, ...]      # [1, e_1(T), …, e_n(T)]: λ_y(S_{m+1})
     inverse_weights: Tuple[int, ...]    # 1/T_j mod p
+    exponents: Tuple[int, ...]          # e_i = k_i − k_{i−1} (index i; 0 unused)
     rank_one_signs: object              # m×m matrix: −1 on the diagonal, +1 just above it
 
 
@@ -144,7 +145,8 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
                   len(level_of), tuple(level_of), top, top.derivative(),
                   math.prod(weights) % p, inverse_differences,
                   tuple(ps.elementary_symmetric(tuple(ps.constant(t, p) for t in weights), 1, p)),
-                  tuple(pow(t, -1, p) for t in weights), signs)
+                  tuple(pow(t, -1, p) for t in weights),
+                  (0,) + tuple(flag.k(i) - flag.k(i - 1) for i in range(1, m + 1)), signs)
 
 
 def check_weights(weights: Sequence[int], prime: int) -> None:
@@ -219,7 +221,7 @@ def _sweep(setup: _Setup, roots: Sequence[Sequence[Series]], f_order: int, j_ord
     row = 0
     for i in range(1, m + 1):
         above, below = levels[i + 1], levels[i - 1]
-        e = flag.k(i) - flag.k(i - 1)
+        e = setup.exponents[i]
         above_base = setup.offsets[i] if i < m else 0
         below_base = setup.offsets[i - 2] if i > 1 else 0
         cofactor = cofactors[i]
@@ -397,7 +399,7 @@ def _first_step(setup: _Setup, fixed_point: FixedPoint, inverse):
         for l in above:
             if l not in here:
                 ratio = ratio * T[l - 1] % p
-        e = flag.k(i) - flag.k(i - 1)
+        e = setup.exponents[i]
         for a, j in enumerate(here):
             K = ratio * pow(T[j - 1], e, p) % p
             value = K
@@ -445,17 +447,23 @@ def _first_step(setup: _Setup, fixed_point: FixedPoint, inverse):
         diagonal -= star_entry
         if above_base is not None:
             J1[r, above_base + star] = star_entry
-        # the q-term s·K·C: below entries K_0 ∏_{c'≠c} (T_c' − T_j), and −(e−1)Q_0/x_0 … on the diagonal
-        q_part = -(flag.k(i) - flag.k(i - 1)) * Q0[r] * setup.inverse_weights[j - 1]
+        # the q-term s·K·C: below entries K_0 ∏_{c'≠c} (T_c' − T_j) (only c = c* when T_j is
+        # also a root below, C_0/(T_c − T_j) times K_0 otherwise), and e·Q_0/x_0 on the diagonal
+        q_part = -setup.exponents[i] * Q0[r] * setup.inverse_weights[j - 1]
         if below:
             below_base = setup.offsets[i - 2]
-            for c, l in enumerate(below):
+            if j in below:
                 entry = K0[r]
-                for l2 in below:
-                    if l2 != l:
-                        entry = entry * (T[l2 - 1] - T[j - 1]) % p
+                for l in below:
+                    if l != j:
+                        entry = entry * (T[l - 1] - T[j - 1]) % p
                 q_part += entry
-                J1[r, below_base + c] = entry
+                J1[r, below_base + below.index(j)] = entry
+            else:
+                for c, l in enumerate(below):
+                    entry = Q0[r] * inverse_differences[l - 1][j - 1] % p
+                    q_part += entry
+                    J1[r, below_base + c] = entry
         J1[r, r] = (diagonal - q_part) % p
     J1 += Q_rows * (setup.rank_one_signs * inverse_columns)
     return roots, J1
