@@ -109,6 +109,7 @@ class _Setup:
     top_lambda: Tuple[Series, ...]      # [1, e_1(T), …, e_n(T)]: λ_y(S_{m+1})
     inverse_weights: Tuple[int, ...]    # 1/T_j mod p
     exponents: Tuple[int, ...]          # e_i = k_i − k_{i−1} (index i; 0 unused)
+    q_series: Tuple[Series, ...]        # q_i = c_i s
     rank_one_signs: object              # m×m matrix: −1 on the diagonal, +1 just above it
 
 
@@ -146,7 +147,8 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
                   math.prod(weights) % p, inverse_differences,
                   tuple(ps.elementary_symmetric(tuple(ps.constant(t, p) for t in weights), 1, p)),
                   tuple(pow(t, -1, p) for t in weights),
-                  (0,) + tuple(flag.k(i) - flag.k(i - 1) for i in range(1, m + 1)), signs)
+                  (0,) + tuple(flag.k(i) - flag.k(i - 1) for i in range(1, m + 1)),
+                  tuple(ps.on_line(c, p) for c in spec.q_line), signs)
 
 
 def check_weights(weights: Sequence[int], prime: int) -> None:
@@ -585,15 +587,15 @@ class _PointClasses:
         """Coefficients of λ_y(Y^(i)) = N_i(y) / λ_y(S_i), exact at the Bethe points, with
         N_i(y) = λ_y(S_{i+1}) + y^{d_i} q_i (det S_{i+1}/det S_i) λ_y(S_{i−1})."""
         if i not in self._quotient:
-            flag, N = self.setup.flag, self.order
-            d = flag.d(i)
+            N = self.order
             above, here = self.lambda_S(i + 1), self.lambda_S(i)
-            q = ps.on_line(self.setup.q_slope[i - 1], self.setup.prime)
-            top = q.mul_low(self.det_S(i + 1), N).mul_low(self.det_S_inverse(i), N)
+            d, k = len(above) - len(here), len(here) - 1
+            top = self.setup.q_series[i - 1].mul_low(self.det_S(i + 1), N).mul_low(
+                self.det_S_inverse(i), N)
             w = [above[0]]
             for j in range(1, d + 1):
-                c = above[j] + (top if j == d else 0)
-                for l in range(1, min(j, flag.k(i)) + 1):
+                c = above[j] + top if j == d else above[j]
+                for l in range(1, min(j, k) + 1):
                     c = c - here[l].mul_low(w[j - l], N)
                 w.append(c)
             self._quotient[i] = w
@@ -607,10 +609,9 @@ class _PointClasses:
             return self.quotient(i)[j]
         if kind == "lambda_Q":
             w = self.quotient(i)
-            if j < self.setup.flag.d(i):
+            if j < len(w) - 1:
                 return w[j]
-            q = ps.on_line(self.setup.q_slope[i - 1], self.setup.prime)
-            return w[j] - q.mul_low(w[j], self.order)
+            return w[j] - self.setup.q_series[i - 1].mul_low(w[j], self.order)
         if kind == "toda_L":
             ratio = self.det_S(i)
             return ratio.mul_low(self.det_S_inverse(i - 1), self.order) if i > 1 else ratio
