@@ -17,7 +17,7 @@ from __future__ import annotations
 import random
 import time
 from dataclasses import dataclass, field, replace
-from typing import Dict, List, Optional, Sequence
+from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
@@ -106,24 +106,29 @@ def with_inverses(polys: list, units: Sequence, inverses: Sequence) -> list:
     return list(polys) + [u * unit - 1 for u, unit in zip(inverses, units)]
 
 
-def own_colength(family: Family, flag: FlagType, spec: algebra.Specialisation) -> Optional[int]:
-    """Colength of the presentation in its own generators (declared units inverted)."""
+@dataclass
+class Ideal:
+    """Relations (labelled) and the reduced Gröbner basis of the ideal they generate,
+    together with any unit inverses, in one specialised ring."""
+    ring: algebra.Ring
+    relations: list            # Relation records
+    basis: list
+    colength: Optional[int]
+    faithful: bool = True      # for a transported ideal: the move kept the colength
+
+
+def own_ideal(family: Family, flag: FlagType, spec: algebra.Specialisation) -> Ideal:
+    """The presentation in its own generators, each declared unit inverted."""
     presentation = build_specialised(family, flag, spec)
+    polys = [r.poly for r in presentation.relations]
     if presentation.units:
         names = inverse_names(len(presentation.units))
         presentation = build_specialised(family, flag, spec, extra=names)
         polys = with_inverses([r.poly for r in presentation.relations], presentation.units,
                               [presentation.ring.extra[n] for n in names])
-    else:
-        polys = [r.poly for r in presentation.relations]
-    return groebner.colength(groebner.groebner_basis(polys))
-
-
-@dataclass
-class Transported:
-    relations: list            # Relation records in the common ring
-    basis: list                # reduced Gröbner basis of the transported ideal
-    colength: Optional[int]
+    basis = groebner.groebner_basis(polys)
+    return Ideal(presentation.ring, list(presentation.relations), basis,
+                 groebner.colength(basis))
 
 
 @dataclass
@@ -152,40 +157,51 @@ def common_setup(families: Sequence[Family], flag: FlagType, spec: algebra.Speci
 
 
 def transported_ideal(family: Family, flag: FlagType, spec: algebra.Specialisation,
-                      common: CommonRing) -> Optional[Transported]:
+                      common: CommonRing, own: Ideal) -> Optional[Ideal]:
     relations = transport.transport(build_specialised(family, flag, spec), common.ring, spec)
     if relations is None:
         return None
     basis = groebner.groebner_basis(with_inverses([r.poly for r in relations], common.units,
                                                   common.inverses))
-    return Transported(relations, basis, groebner.colength(basis))
+    moved = groebner.colength(basis)
+    return Ideal(common.ring, relations, basis, moved, faithful=moved == own.colength)
 
 
-def compare_by_groebner(a: PresentationReport, b: PresentationReport, A: Transported,
-                        B: Transported, C_names) -> PairReport:
-    if a.colength != b.colength:
-        return PairReport(a.name, b.name, "disagree", "groebner",
-                          f"colengths differ at the same specialisation: "
-                          f"{a.colength} and {b.colength}")
-    a, b = a.name, b.name
-    if A.basis == B.basis:
-        return PairReport(a, b, "agree", "groebner",
-                          "equal reduced Gröbner bases in the common λ-class ring")
-    witnesses = []
+def same_ring(A: Ideal, B: Ideal) -> bool:
+    return A.ring.ctx is B.ring.ctx
+
+
+def witnesses_between(a: str, b: str, A: Ideal, B: Ideal) -> List[dict]:
+    """Relations of one ideal that are not in the other, with their normal forms."""
+    names = A.ring.ctx.names()
+    found = []
     for source, target, X, Y in ((a, b, A, B), (b, a, B, A)):
-        found = 0
+        count = 0
         for relation in X.relations:
             remainder = groebner.normal_form(relation.poly, Y.basis)
             if remainder != 0:
-                witnesses.append({"relation_of": source, "not_in": target,
-                                  "relation": relation.label,
-                                  "normal_form": _formula(remainder, C_names)})
-                found += 1
-                if found >= MAX_WITNESSES:
+                found.append({"relation_of": source, "not_in": target,
+                              "relation": relation.label,
+                              "normal_form": _formula(remainder, names)})
+                count += 1
+                if count >= MAX_WITNESSES:
                     break
-    reason = "the transported ideals differ"
-    if not witnesses:
-        reason += " (only in the inverted units)"
+    return found
+
+
+def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport:
+    """Two ideals in one ring: equal reduced Gröbner bases, or witnesses both ways."""
+    if A.basis == B.basis and A.faithful and B.faithful:
+        return PairReport(a, b, "agree", "groebner", f"equal reduced Gröbner bases {where}")
+    witnesses = witnesses_between(a, b, A, B)
+    if A.colength != B.colength:
+        reason = f"colengths differ {where}: {A.colength} and {B.colength}"
+    elif not (A.faithful and B.faithful):
+        unfaithful = " and ".join(n for n, X in ((a, A), (b, B)) if not X.faithful)
+        reason = (f"{unfaithful} loses relations when its generators are replaced by their "
+                  "meanings")
+    else:
+        reason = f"the ideals differ {where}"
     return PairReport(a, b, "disagree", "groebner", reason, witnesses)
 
 
@@ -279,7 +295,7 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
             reports[family.name].notes.append(
                 f"no Gröbner basis: expected colength {reports[family.name].expected_colength} "
                 f"is above the automatic limit {GROEBNER_COLENGTH_LIMIT} (use --method both)")
-    common, transported = groebner_reports(by_groebner, flag, residues, reports)
+    own, moved = groebner_reports(by_groebner, flag, residues, reports)
     use_groebner = bool(by_groebner)
     timings["groebner"] = time.perf_counter() - started
 
@@ -295,18 +311,8 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
     for family in families:
         decide_completeness(reports[family.name], family)
 
-    C_names = common.ring.ctx.names() if common else ()
-    pairs = []
-    for x in range(len(families)):
-        for y in range(x + 1, len(families)):
-            a, b = families[x].name, families[y].name
-            A, B = transported.get(a), transported.get(b)
-            if A is not None and B is not None:
-                pair = compare_by_groebner(reports[a], reports[b], A, B, C_names)
-                _attach_points_evidence(pair, reports[a], reports[b])
-            else:
-                pair = compare_by_points(reports[a], reports[b])
-            pairs.append(pair)
+    pairs = [compare_pair(families[x].name, families[y].name, own, moved, reports)
+             for x in range(len(families)) for y in range(x + 1, len(families))]
 
     certificate = residues.record()
     certificate.update({"q_line": list(line.q_line), "order": order if use_points else None,
@@ -317,24 +323,39 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
 
 
 def groebner_reports(families: Sequence[Family], flag: FlagType,
-                     residues: algebra.Specialisation, reports: Dict[str, PresentationReport]):
-    """Colengths (generic and q = 0) and transported ideals of the given presentations."""
-    transported: Dict[str, Optional[Transported]] = {}
+                     residues: algebra.Specialisation, reports: Dict[str, PresentationReport]
+                     ) -> Tuple[Dict[str, Ideal], Dict[str, Optional[Ideal]]]:
+    """Own and transported ideals of the given presentations; fills in the colengths."""
+    own: Dict[str, Ideal] = {}
+    moved: Dict[str, Optional[Ideal]] = {}
     if not families:
-        return None, transported
+        return own, moved
     common = common_setup(families, flag, residues)
     for family in families:
         report = reports[family.name]
-        report.colength = own_colength(family, flag, residues)
-        report.classical_colength = own_colength(family, flag, classical(residues))
-        moved = transported_ideal(family, flag, residues, common)
-        if moved is not None and moved.colength != report.colength:
+        own[family.name] = own_ideal(family, flag, residues)
+        report.colength = own[family.name].colength
+        report.classical_colength = own_ideal(family, flag, classical(residues)).colength
+        moved[family.name] = transported_ideal(family, flag, residues, common, own[family.name])
+        if moved[family.name] is not None and not moved[family.name].faithful:
             report.notes.append(
-                f"not compared in the common λ-class ring: moving it there changes the "
-                f"colength from {report.colength} to {moved.colength}")
-            moved = None
-        transported[family.name] = moved
-    return common, transported
+                f"replacing its generators by their meanings changes the colength from "
+                f"{report.colength} to {moved[family.name].colength}")
+    return own, moved
+
+
+def compare_pair(a: str, b: str, own: Dict[str, Ideal], moved: Dict[str, Optional[Ideal]],
+                 reports: Dict[str, PresentationReport]) -> PairReport:
+    """Same generators: compare the ideals as they are.  Otherwise in the common λ-class
+    ring when both can be moved there; otherwise through the Bethe points."""
+    if a in own and b in own and same_ring(own[a], own[b]):
+        pair = compare_ideals(a, b, own[a], own[b], "in their common generators")
+    elif moved.get(a) is not None and moved.get(b) is not None:
+        pair = compare_ideals(a, b, moved[a], moved[b], "in the common λ-class ring")
+    else:
+        return compare_by_points(reports[a], reports[b])
+    _attach_points_evidence(pair, reports[a], reports[b])
+    return pair
 
 
 def _attach_points_evidence(pair: PairReport, a: PresentationReport, b: PresentationReport):
