@@ -96,12 +96,10 @@ class _Setup:
     prime: int
     weights: Tuple[int, ...]
     top: Tuple[Series, ...]             # the weights as constant series: level m+1
-    q_slope: Tuple[int, ...]            # c_i
     folded_slope: Tuple[int, ...]       # κ_i
     row_sign: Tuple[int, ...]           # σ_i, levels 1…m
     offsets: Tuple[int, ...]            # position of level i's first root in the flat vector
     size: int                           # number of unknowns, Σ k_i
-    level_of: Tuple[int, ...]           # level of each flat position
     top_polynomial: Series              # ∏_j (T_j − t): level m's product, composed with x
     top_derivative: Series
     weight_product: int                 # det S_{m+1} = T_1⋯T_n
@@ -123,10 +121,7 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
         raise ValueError(f"{flag.name} needs {flag.m} q-line coefficients, got {len(spec.q_line)}")
     check_weights(spec.T, p)
     m = flag.m
-    offsets, level_of = [], []
-    for i in range(1, m + 1):
-        offsets.append(len(level_of))
-        level_of += [i] * flag.k(i)
+    offsets = [sum(flag.dims[:i]) for i in range(m)]
     weights = tuple(t % p for t in spec.T)
     top = ps.constant(1, p)
     for t in weights:
@@ -134,21 +129,24 @@ def _setup(flag: FlagType, spec: algebra.Specialisation) -> _Setup:
     row_sign = tuple((-1) ** flag.k(i + 1) for i in range(1, m + 1))
     folded = tuple((row_sign[i - 1] * (-1) ** (flag.k(i - 1) + flag.d(i)) * spec.q_line[i - 1]) % p
                    for i in range(1, m + 1))
-    inverse_differences = tuple(tuple(pow(a - b, -1, p) if a != b else 0 for b in weights)
-                                for a in weights)
     signs = flint.nmod_mat(m, m, p)
     for i in range(m):
         signs[i, i] = -1
         if i + 1 < m:
             signs[i, i + 1] = 1
-    return _Setup(flag, p, weights, tuple(ps.constant(t, p) for t in weights),
-                  tuple(c % p for c in spec.q_line), folded, row_sign, tuple(offsets),
-                  len(level_of), tuple(level_of), top, top.derivative(),
-                  math.prod(weights) % p, inverse_differences,
-                  tuple(ps.elementary_symmetric(tuple(ps.constant(t, p) for t in weights), 1, p)),
-                  tuple(pow(t, -1, p) for t in weights),
-                  (0,) + tuple(flag.k(i) - flag.k(i - 1) for i in range(1, m + 1)),
-                  tuple(ps.on_line(c, p) for c in spec.q_line), signs)
+    constants = tuple(ps.constant(t, p) for t in weights)
+    return _Setup(
+        flag=flag, prime=p, weights=weights, top=constants, folded_slope=folded,
+        row_sign=row_sign, offsets=tuple(offsets), size=sum(flag.dims),
+        top_polynomial=top, top_derivative=top.derivative(),
+        weight_product=math.prod(weights) % p,
+        inverse_differences=tuple(tuple(pow(a - b, -1, p) if a != b else 0 for b in weights)
+                                  for a in weights),
+        top_lambda=tuple(ps.elementary_symmetric(constants, 1, p)),
+        inverse_weights=tuple(pow(t, -1, p) for t in weights),
+        exponents=(0,) + tuple(flag.k(i) - flag.k(i - 1) for i in range(1, m + 1)),
+        q_series=tuple(ps.on_line(c, p) for c in spec.q_line),
+        rank_one_signs=signs)
 
 
 def check_weights(weights: Sequence[int], prime: int) -> None:
