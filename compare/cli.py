@@ -99,6 +99,17 @@ def prime_argument(text: str) -> int:
     return p
 
 
+def report_directory_usable(directory: str) -> None:
+    """Fail before the computation, not after it, when the report cannot be written."""
+    path = os.path.abspath(directory)
+    while not os.path.exists(path):
+        path = os.path.dirname(path)
+    if not os.path.isdir(path):
+        raise UsageError(f"--report {directory!r}: {path} is not a directory")
+    if not os.access(path, os.W_OK):
+        raise UsageError(f"--report {directory!r}: {path} is not writable")
+
+
 def emit(args, result: dict, human: str) -> None:
     if getattr(args, "json", False):
         print(json.dumps(result, indent=2, sort_keys=False))
@@ -122,10 +133,18 @@ def cmd_check(args) -> int:
     families = [resolve_family(name) for name in args.presentations]
     if not args.plain and args.prime - 2 < args.case.n:
         raise UsageError(f"--prime {args.prime} is too small for {args.case.n} distinct weights")
+    if args.report is not None:
+        report_directory_usable(args.report)
     result = check_case(args.case, families, seed=args.seed, prime=args.prime,
                         equivariant=not args.plain, order=args.order, trials=args.trials,
                         method=args.method)
     emit(args, result, check_summary_text(result))
+    if args.report is not None:
+        from reports.discrepancy import reproduce_command, write_report
+        command = reproduce_command(result, args.presentations, args.method)
+        paths = write_report(result, args.report, command=command,
+                             families={f.name: f for f in families})
+        print("report: " + " and ".join(map(str, paths)), file=sys.stderr)
     return 0
 
 
@@ -200,6 +219,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--method", choices=["auto", "groebner", "points", "both"], default="auto",
                    help="auto: Gröbner bases up to colength 150, Bethe points always")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    p.add_argument("--report", metavar="DIR",
+                   help="also write a Markdown and a JSON report of the case into DIR")
     p.set_defaults(run=cmd_check)
 
     p = sub.add_parser("presentations",

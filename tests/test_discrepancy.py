@@ -1,0 +1,225 @@
+"""Discrepancy reports (reports/discrepancy.py) on real disagreements found by the engine.
+
+The wrong presentations are (a) the q-Whitney relations with the sign of the quantum term
+flipped, built here as a Family record, and (b) the shipped conjecture
+presentations/files/examples/whitney-sign-error.toml.  The formulas the report prints are
+checked against the relations written out independently in SymPy from DESIGN.md §2.1
+(q-Whitney relations, arXiv:2310.03826), with the respective error put in by hand.
+"""
+from __future__ import annotations
+
+import contextlib
+import io
+import json
+import shlex
+import subprocess
+import sys
+
+import pytest
+import sympy
+
+from compare import algebra
+from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
+from compare.cli import main as cli_main
+from compare.engine import check_case
+from presentations import get_family, whitney
+from presentations.flagtype import parse_flag
+from presentations.interface import Family, Relation
+from reports.discrepancy import case_file_stem, report_record, write_report
+
+FL3 = parse_flag("Fl(1,2;3)")
+SEED = 11
+
+
+def flipped_relations(flag, ring):
+    """q-Whitney with + instead of − in front of the quantum term (a deliberate error)."""
+    out = []
+    for i in range(1, flag.m + 1):
+        d = flag.d(i)
+        lam_Q = [ring.one] + [ring.gen[f"Q{i}_{j}"] for j in range(1, d + 1)]
+        lam_S, below, above = (whitney.lambda_y_S(flag, ring, i),
+                               whitney.lambda_y_S(flag, ring, i - 1),
+                               whitney.lambda_y_S(flag, ring, i + 1))
+        q, zero = ring.q[i - 1], ring.zero
+        classical = ypoly_sub(ypoly_mul(lam_S, lam_Q, zero), above, zero)
+        quantum = ypoly_shift(ypoly_scale(ypoly_sub(lam_S, below, zero), q * lam_Q[d]), d, zero)
+        total = ypoly_sub(ypoly_scale(classical, ring.one - q), quantum, zero)
+        out += [Relation(f"level {i}, y^{j}", total[j]) for j in range(1, flag.k(i + 1) + 1)]
+    return out
+
+
+FLIPPED = Family(name="whitney-flipped", description="q-Whitney, quantum term negated (test)",
+                 generators=whitney.generators, relations=flipped_relations)
+
+
+def sympy_whitney_coefficient(flag, level, power, *, quantum_sign=1, below_sign=-1):
+    """Coefficient of y^power in (1 − q_i)(λ_y(S_i)λ_y(Q_i) − λ_y(S_{i+1}))
+    + quantum_sign · y^{d_i} q_i det Q_i (λ_y(S_i) + below_sign·(λ_y(S_i−1) − 1) − 1),
+    written directly from DESIGN.md §2.1 (arXiv:2310.03826) in SymPy.  The published
+    relation is quantum_sign = +1, below_sign = −1 (the constant terms of λ_y(S_i) and
+    λ_y(S_{i−1}) cancel there; the shipped conjecture keeps that cancellation but adds
+    the higher λ_a(S_{i−1}))."""
+    y = sympy.Symbol("y")
+    T = sympy.symbols(f"T1:{flag.n + 1}")
+
+    def lam_S(i):
+        if i == 0:
+            return sympy.Integer(1)
+        if i == flag.m + 1:
+            return sympy.prod([1 + y * t for t in T])
+        return 1 + sum(sympy.Symbol(f"S{i}_{j}") * y ** j for j in range(1, flag.k(i) + 1))
+
+    i, d = level, flag.d(level)
+    q = sympy.Symbol(f"q{i}")
+    lam_Q = 1 + sum(sympy.Symbol(f"Q{i}_{j}") * y ** j for j in range(1, d + 1))
+    det_Q = sympy.Symbol(f"Q{i}_{d}")
+    higher = (lam_S(i) - 1) + below_sign * (lam_S(i - 1) - 1)
+    expr = (1 - q) * (lam_S(i) * lam_Q - lam_S(i + 1)) + quantum_sign * y ** d * q * det_Q * higher
+    return sympy.expand(expr).coeff(y, power)
+
+
+def label_position(label):
+    level, power = label.replace("level ", "").split(", y^")
+    return int(level), int(power)
+
+
+def sympy_text(expr) -> str:
+    return sympy.sstr(sympy.expand(expr)) + " = 0"
+
+
+@pytest.fixture(scope="module")
+def flipped_result():
+    return check_case(FL3, [whitney.FAMILY, FLIPPED], seed=SEED)
+
+
+@pytest.fixture(scope="module")
+def shipped_result():
+    wrong = get_family("presentations/files/examples/whitney-sign-error.toml")
+    return check_case(FL3, [whitney.FAMILY, wrong], seed=SEED)
+
+
+def read_report(result, directory, **options):
+    markdown_path, json_path = write_report(result, directory, **options)
+    return markdown_path, json_path, markdown_path.read_text(), json.loads(json_path.read_text())
+
+
+def test_flipped_sign_report(flipped_result, tmp_path):
+    markdown_path, json_path, markdown, record = read_report(
+        flipped_result, tmp_path, families={"whitney-flipped": FLIPPED})
+    assert (markdown_path.name, json_path.name) == ("Fl_3.md", "Fl_3.json")
+    assert record["verdict"] == "disagree" and "**disagree**" in markdown
+    pair = record["pairs"][0]
+    assert pair["verdict"] == "disagree"
+
+    # Every relation the report names as failing is printed as the flipped formula.
+    failed = [f for f in record["failed_relations"] if f["presentation"] == "whitney-flipped"]
+    assert failed
+    for failure in failed:
+        level, power = label_position(failure["relation"])
+        expected = sympy_text(sympy_whitney_coefficient(FL3, level, power, quantum_sign=-1))
+        assert failure["formula"] == expected
+        assert expected in markdown
+        # and it differs from the published relation with the same label
+        published = sympy_text(sympy_whitney_coefficient(FL3, level, power))
+        assert published != expected
+        assert failure["lowest_power"] >= 1      # the q = 0 part is the classical relation
+    # A family made in a script has no name the command line knows: the report says so.
+    assert record["notes"] == ["the command line knows no presentation called "
+                               "whitney-flipped: give its file path or plug-in instead"]
+
+
+def test_shipped_conjecture_report(shipped_result, tmp_path):
+    _, _, markdown, record = read_report(shipped_result, tmp_path)
+    assert record["verdict"] == "disagree"
+    names = [p["name"] for p in record["presentations"]]
+    assert names == ["whitney", "whitney-sign-error"]
+    rows = {p["name"]: p for p in record["presentations"]}
+    assert rows["whitney"]["complete"] is True
+    assert rows["whitney-sign-error"]["holds"] is False
+    assert rows["whitney-sign-error"]["complete"] is False
+
+    # The file says the slipped sign first matters at level 2 of Fl(1,2;3) (λ_1(S_1) ≠ 0).
+    failure = record["failed_relations"][0]
+    assert failure["presentation"] == "whitney-sign-error"
+    assert failure["relation"] == "level 2, y^2"
+    expected = sympy_text(sympy_whitney_coefficient(FL3, 2, 2, below_sign=+1))
+    assert failure["formula"] == expected and expected in markdown
+
+    witnesses = record["pairs"][0]["witnesses"]
+    ideal_witnesses = [w for w in witnesses if w["kind"] == "not in the other ideal"]
+    assert ideal_witnesses
+    for w in ideal_witnesses:
+        assert w["normal_form"] and f"`{w['normal_form']}`" in markdown
+        assert w["formula"] in markdown
+    assert any(w["kind"] == "fails at the Bethe points" for w in witnesses)
+
+    certificate = record["certificate"]
+    for key in ("prime", "seed"):
+        assert f"- {key}: {certificate[key]}" in markdown
+    assert ", ".join(map(str, certificate["weights"])) in markdown
+    assert ", ".join(map(str, certificate["q_line"])) in markdown
+    assert certificate["kind"] == "probabilistic" and certificate["exact"] is False
+    assert record["command"] in markdown and f"--seed {SEED}" in record["command"]
+
+
+def test_json_is_the_markdown_record(shipped_result, tmp_path):
+    _, _, markdown, record = read_report(shipped_result, tmp_path)
+    assert record == json.loads(json.dumps(report_record(shipped_result), ensure_ascii=False))
+    assert record["case"] == shipped_result["case"] and record["rank"] == 6
+    for p in record["presentations"]:
+        assert f"| {p['name']}" in markdown
+    for pair in record["pairs"]:
+        assert pair["reason"] in markdown
+
+
+def test_the_printed_command_reproduces_the_result(shipped_result):
+    record = report_record(shipped_result)
+    words = shlex.split(record["command"])
+    assert words[:2] == ["ringmatch", "check"]
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        assert cli_main(words[1:] + ["--json"]) == 0
+    again = json.loads(out.getvalue())
+    assert again["verdict"] == shipped_result["verdict"]
+    assert again["certificate"]["weights"] == shipped_result["certificate"]["weights"]
+    assert again["pairs"] == shipped_result["pairs"]
+
+
+def test_agreement_has_no_witness_section(tmp_path):
+    result = check_case(parse_flag("P2"), [whitney.FAMILY, get_family("vieta")], seed=3)
+    _, _, markdown, record = read_report(result, tmp_path)
+    assert record["verdict"] == "agree"
+    assert "Witnesses" not in markdown and not record["failed_relations"]
+    assert (tmp_path / "P2.md").exists()
+
+
+@pytest.mark.parametrize("case, equivariant, stem", [
+    ("Fl(1,3;5)", True, "Fl_1_3__5"), ("Gr(2;5)", True, "Gr_2__5"), ("Fl(4)", True, "Fl_4"),
+    ("P3", False, "P3-plain"), ("../x/y", True, "x_y"),
+])
+def test_file_names(case, equivariant, stem):
+    assert case_file_stem(case, equivariant) == stem
+
+
+def run_cli(*args, cwd=None):
+    return subprocess.run([sys.executable, "-m", "compare.cli", *args], capture_output=True,
+                          text=True, timeout=120, cwd=cwd)
+
+
+def test_cli_report_option(tmp_path):
+    run = run_cli("check", "Gr(1;3)", "--presentations", "whitney,vieta", "--seed", "5",
+                  "--report", str(tmp_path / "out"))
+    assert run.returncode == 0, run.stderr
+    record = json.loads((tmp_path / "out" / "P2.json").read_text())
+    assert record["verdict"] == "agree"
+    assert "--presentations whitney,vieta --seed 5" in record["command"]
+    assert "--method auto" in record["command"]
+
+
+def test_cli_report_into_a_file_is_a_one_line_error(tmp_path):
+    blocker = tmp_path / "file"
+    blocker.write_text("")
+    run = run_cli("check", "P2", "--report", str(blocker / "sub"))
+    assert run.returncode == 2
+    assert len(run.stderr.strip().splitlines()) == 1 and "--report" in run.stderr
+    assert "Traceback" not in run.stderr
