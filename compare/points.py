@@ -161,7 +161,8 @@ def check_weights(weights: Sequence[int], prime: int) -> None:
             raise SingularJacobian(f"weight T_{j} = {t} is 0 mod {prime}: det S_i would not be a unit")
         if r in seen:
             raise SingularJacobian(f"weights T_{seen[r]} and T_{j} are equal mod {prime}: "
-                                   "the Jacobian of the Bethe equations is singular at the fixed points")
+                                   "the Bethe points need distinct weights (the Jacobian at the "
+                                   "fixed points is singular)")
         seen[r] = j
 
 
