@@ -88,6 +88,16 @@ def positive_int(text: str) -> int:
     return value
 
 
+def non_negative_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"{value} must not be negative")
+    return value
+
+
 def prime_argument(text: str) -> int:
     try:
         p = int(text)
@@ -192,6 +202,28 @@ def cmd_points(args) -> int:
     return 0
 
 
+def cmd_iso(args) -> int:
+    from .iso import Bounds, IsoInputError, find_isomorphism
+    from reports.isomorphism import as_json, as_text
+    if args.json and args.latex:
+        raise UsageError("--json and --latex exclude each other")
+    if args.prime < 2**40:
+        raise UsageError(f"--prime {args.prime}: iso needs a prime of at least 2^40 (further "
+                         "primes are taken 2^32 apart below it)")
+    source, target = resolve_family(args.source), resolve_family(args.target)
+    bounds = Bounds(max_degree=args.max_degree, max_terms=args.max_terms, order=args.order)
+    try:
+        result = find_isomorphism(args.case, source, target, bounds=bounds, seed=args.seed,
+                                  prime=args.prime)
+    except IsoInputError as error:
+        raise UsageError(str(error)) from None
+    if args.json:
+        print(json.dumps(as_json(result), indent=2))
+    else:
+        print(as_text(result, latex=args.latex))
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="ringmatch",
                      description="Compare presentations of quantum K-theory rings of flag varieties.")
@@ -247,6 +279,27 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--seed", type=int, help="seed for the random weights / line (recorded)")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.set_defaults(run=cmd_points)
+
+    p = sub.add_parser("iso", help="find an explicit isomorphism between two presentations: "
+                                   "every generator of one as a formula in the other's")
+    p.add_argument("case", type=flag_argument)
+    p.add_argument("--from", dest="source", required=True, metavar="NAME",
+                   help="presentation whose generators the formulas use")
+    p.add_argument("--to", dest="target", required=True, metavar="NAME",
+                   help="presentation whose generators are expressed")
+    p.add_argument("--max-degree", type=non_negative_int, metavar="D",
+                   help="monomials of total degree ≤ D only; default: up to the degree where "
+                        "the monomials span the ring")
+    p.add_argument("--max-terms", type=non_negative_int, default=4, metavar="K",
+                   help="look for formulas with at most K terms first (default 4; 0: normal "
+                        "forms only)")
+    p.add_argument("--order", type=positive_int, default=16,
+                   help="Bethe points mod s^N (default 16)")
+    p.add_argument("--seed", type=int, help="seed for every random choice (recorded)")
+    p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
+    p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    p.add_argument("--latex", action="store_true", help="formulas in LaTeX")
+    p.set_defaults(run=cmd_iso)
     return parser
 
 

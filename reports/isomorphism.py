@@ -1,0 +1,180 @@
+"""Output of an isomorphism search (compare/iso.py): text for people, LaTeX, JSON.
+
+Formulas are assembled as SymPy expressions from the exact coefficient records (never by
+parsing text) and printed by SymPy.  Coefficients are written in the weights T1…Tn and the
+Novikov variables q1…qm: e_i(T) is expanded into monomials, denominators are kept as
+products of (1 − q_i) and of T1⋯Tn.
+"""
+from __future__ import annotations
+
+import itertools
+import re
+from functools import lru_cache
+from typing import Dict, List, Sequence
+
+import sympy
+
+from compare.iso import Direction, ExactCoefficient, GeneratorFormula, IsoResult
+
+FACTOR_LIMIT = 20      # numerators with more terms are printed expanded (factoring is slow)
+
+
+@lru_cache(maxsize=None)
+def _symbol(name: str) -> sympy.Symbol:
+    return sympy.Symbol(name)
+
+
+@lru_cache(maxsize=None)
+def _elementary(n: int) -> tuple:
+    T = [_symbol(f"T{j}") for j in range(1, n + 1)]
+    return tuple(sympy.Add(*[sympy.Mul(*c) for c in itertools.combinations(T, i)])
+                 for i in range(1, n + 1))
+
+
+def coefficient_expression(c: ExactCoefficient) -> sympy.Expr:
+    if not c.numerator:
+        return sympy.Integer(0)
+    n = len(c.numerator[0][0])
+    m = len(c.q_poles)
+    e = _elementary(n)
+    q = [_symbol(f"q{i}") for i in range(1, m + 1)]
+    numerator = sympy.Integer(0)
+    for alpha, beta, value in c.numerator:
+        term = sympy.Rational(value.numerator, value.denominator)
+        for e_i, a in zip(e, alpha):
+            term *= e_i ** a
+        for q_i, b in zip(q, beta):
+            term *= q_i ** b
+        numerator += term
+    numerator = sympy.expand(numerator)
+    if len(sympy.Add.make_args(numerator)) <= FACTOR_LIMIT:
+        numerator = sympy.factor(numerator)
+    denominator = sympy.Integer(1)
+    if c.e_top_power:
+        denominator *= e[-1] ** c.e_top_power
+    for q_i, E in zip(q, c.q_poles):
+        if E:
+            denominator *= (1 - q_i) ** E
+    return numerator / denominator
+
+
+def formula_expression(formula: GeneratorFormula, source_names: Sequence[str]) -> sympy.Expr:
+    symbols = [_symbol(name) for name in source_names]
+    total = sympy.Integer(0)
+    for term in formula.terms:
+        monomial = sympy.Integer(1)
+        for symbol, a in zip(symbols, term.monomial):
+            monomial *= symbol ** a
+        total += coefficient_expression(term.coefficient) * monomial
+    return total
+
+
+def formula_text(formula: GeneratorFormula, source_names: Sequence[str]) -> str:
+    return sympy.sstr(formula_expression(formula, source_names))
+
+
+def _latex_name(name: str) -> str:
+    match = re.fullmatch(r"([A-Za-z]+)(\d+)_(\d+)", name)
+    if match:
+        return f"{match.group(1)}_{{{match.group(2)},{match.group(3)}}}"
+    match = re.fullmatch(r"([A-Za-z]+)(\d+)", name)
+    if match:
+        return f"{match.group(1)}_{{{match.group(2)}}}"
+    return name
+
+
+def formula_latex(formula: GeneratorFormula, source_names: Sequence[str]) -> str:
+    expression = formula_expression(formula, source_names)
+    names = {s: _latex_name(s.name) for s in expression.free_symbols}
+    return sympy.latex(expression, symbol_names=names)
+
+
+def direction_map(direction: Direction) -> Dict[str, str]:
+    return {f.target: formula_text(f, direction.source_generators) for f in direction.formulas}
+
+
+# ---------------------------------------------------------------------------------------
+# The three layouts
+
+def as_json(result: IsoResult) -> dict:
+    return {
+        "case": result.case,
+        "from": result.source,
+        "to": result.target,
+        "found": result.found,
+        "verified": result.verified,
+        "status": result.status,
+        "reason": result.reason,
+        "map": direction_map(result.forward) if result.found else {},
+        "inverse": direction_map(result.backward) if result.found else {},
+        "candidate": None if result.found or not result.forward.formulas else {
+            "map": direction_map(result.forward), "inverse": direction_map(result.backward)},
+        "how": {"map": {s.target: s.how for s in result.forward.supports},
+                "inverse": {s.target: s.how for s in result.backward.supports}},
+        "bounds": dict(result.bounds, searched_degree={
+            "map": result.forward.searched_degree, "inverse": result.backward.searched_degree}),
+        "certificate": dict(result.certificate, checks=result.checks),
+    }
+
+
+def _check_line(check: dict) -> str:
+    verdict = {True: "passed", False: "FAILED", None: "undecided"}[check["passed"]]
+    where = f"prime {check.get('prime')}, seed {check.get('seed')}"
+    if check.get("order"):
+        where += f", order s^{check['order']}"
+    return f"  {check['check']}: {verdict} ({check.get('method', '')}; {where})\n    {check['detail']}"
+
+
+def _formula_lines(direction: Direction, latex: bool) -> List[str]:
+    lines = []
+    width = max((len(f.target) for f in direction.formulas), default=0)
+    for f in direction.formulas:
+        if latex:
+            lines.append(f"  {_latex_name(f.target)} &= "
+                         f"{formula_latex(f, direction.source_generators)} \\\\")
+        else:
+            lines.append(f"  {f.target:<{width}} = {formula_text(f, direction.source_generators)}")
+    return lines
+
+
+def as_text(result: IsoResult, *, latex: bool = False) -> str:
+    verdict = "found, verified" if result.verified else \
+        "found, not verified" if result.found else result.status
+    lines = [f"Isomorphism {result.source} → {result.target} for {result.case}: {verdict}",
+             f"  {result.reason}"]
+    shown = result.found or result.forward.formulas
+    for title, direction in (("map", result.forward), ("inverse", result.backward)):
+        if not shown or not direction.formulas:
+            continue
+        label = title if result.found else f"candidate {title}"
+        lines += ["", f"{label} ({direction.target} generators in {direction.source} generators):"]
+        if latex:
+            lines.append("\\begin{align*}")
+        lines += _formula_lines(direction, latex)
+        if latex:
+            lines.append("\\end{align*}")
+        normal = [s.target for s in direction.supports if s.how != "sparsest"]
+        if normal:
+            lines.append(f"  (normal form in the standard monomials for {', '.join(normal)}; "
+                         "sparsest support for the others)")
+    bounds = result.bounds
+    degrees = {d.searched_degree for d in (result.forward, result.backward)
+               if d.searched_degree is not None}
+    lines += ["", "bounds: monomials of degree ≤ " +
+              (str(bounds["max_degree"]) if bounds["max_degree"] is not None else
+               "/".join(map(str, sorted(degrees))) + " (where they span)") +
+              f", sparsest supports up to {bounds['max_terms']} terms, order s^{bounds['order']}, "
+              f"1/e_n(T) up to {bounds['t_pole_extra']} power(s) beyond the least, "
+              f"up to {bounds['max_primes']} primes"]
+    if result.checks:
+        lines += ["checks:"] + [_check_line(c) for c in result.checks]
+    certificate = result.certificate
+    search = certificate.get("search", {})
+    lines.append(f"certificate: seed {certificate.get('seed')}; search at prime "
+                 f"{search.get('prime')}, order s^{search.get('order')}")
+    rebuilt = certificate.get("reconstruction")
+    if rebuilt:
+        lines.append(f"  reconstruction: {rebuilt['samples_per_prime']} samples per prime, primes "
+                     f"{', '.join(map(str, rebuilt['primes']))}; {rebuilt['height_bound']}")
+    lines.append(f"  ({certificate.get('kind')}: random specialisations; --json for all of it)")
+    return "\n".join(lines)
