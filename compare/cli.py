@@ -224,6 +224,46 @@ def cmd_iso(args) -> int:
     return 0
 
 
+def _output_command(words: List[str]) -> str:
+    import shlex
+    return shlex.join(["ringmatch", *words])
+
+
+def cmd_table(args) -> int:
+    from reports.frames import SourceError
+    from reports.tables import TableError, TableOptions, parse_columns, render
+    words = ["table", args.store, "--format", args.format]
+    words += ["--columns", args.columns] if args.columns else []
+    words += ["--group-by-n"] if args.group_by_n else []
+    words += ["--relations"] if args.relations else []
+    words += ["--standalone"] if args.standalone else []
+    try:
+        options = TableOptions(
+            columns=parse_columns(args.columns) if args.columns else TableOptions.columns,
+            group_by_n=args.group_by_n, relations=args.relations,
+            standalone=args.standalone, command=_output_command(words))
+        text = render(args.store, args.format, options)
+    except (SourceError, TableError) as error:
+        raise UsageError(str(error)) from None
+    sys.stdout.write(text)
+    return 0
+
+
+def cmd_figure(args) -> int:
+    from reports.figures import FigureError, agreement_map
+    from reports.frames import SourceError
+    words = ["figure", args.store, "--out", args.out, "--layout", args.layout]
+    try:
+        path = agreement_map(args.store, args.out, layout=args.layout,
+                             command=_output_command(words))
+    except (SourceError, FigureError) as error:
+        raise UsageError(str(error)) from None
+    except OSError as error:
+        raise UsageError(f"--out {args.out!r}: {error.strerror or error}") from None
+    print(f"figure: {path}", file=sys.stderr)
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="ringmatch",
                      description="Compare presentations of quantum K-theory rings of flag varieties.")
@@ -279,6 +319,31 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--seed", type=int, help="seed for the random weights / line (recorded)")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.set_defaults(run=cmd_points)
+
+    p = sub.add_parser("table", help="one row per case of a results store (or .json of check "
+                                     "results) as LaTeX, CSV or Markdown")
+    p.add_argument("store", help="results store of a sweep, or a .json file of check results")
+    p.add_argument("--format", choices=["latex", "csv", "markdown"], default="markdown")
+    p.add_argument("--columns", metavar="KEY,...",
+                   help="columns in order (case, kind, n, rank, presentations, verdict, reason, "
+                        "method, order, trials, exactness, certificate, prime, seed, seconds); "
+                        "default case,rank,presentations,verdict,certificate,seconds")
+    p.add_argument("--group-by-n", action="store_true", help="one block of rows per n")
+    p.add_argument("--relations", action="store_true",
+                   help="LaTeX/Markdown: print the relations of cases of rank ≤ 6 in display math")
+    p.add_argument("--standalone", action="store_true",
+                   help="LaTeX: a complete document rather than a fragment for \\input")
+    p.set_defaults(run=cmd_table)
+
+    p = sub.add_parser("figure", help="agreement map of a results store: cases coloured by "
+                                      "verdict (.png, .svg or .pdf)")
+    p.add_argument("store", help="results store of a sweep, or a .json file of check results")
+    p.add_argument("--out", required=True, metavar="FILE",
+                   help="output file; the format follows the suffix .png, .svg or .pdf")
+    p.add_argument("--layout", choices=["auto", "steps", "grassmannian"], default="auto",
+                   help="steps: n against the number of subspaces; grassmannian: k against n; "
+                        "auto: grassmannian when every case is one")
+    p.set_defaults(run=cmd_figure)
 
     p = sub.add_parser("iso", help="find an explicit isomorphism between two presentations: "
                                    "every generator of one as a formula in the other's")

@@ -1,0 +1,181 @@
+"""Sweep results as rows and as a pandas DataFrame.
+
+Sources accepted everywhere in `reports` (tables, figures, notebooks):
+
+* a store file written by the sweeps (`compare.store`, SQLite): read with `load_results`;
+* a `.json` file holding one `ringmatch check --json` result or a list of them (or a list
+  of store rows);
+* rows already in memory: store rows or `compare.engine.check_case` results.
+
+Every source becomes a list of *rows* in the store's shape (`row_from_result` converts a
+bare check result), and `results_frame` turns rows into a DataFrame.
+
+DataFrame columns (one row per stored case, in sweep order):
+
+    case            trade notation, e.g. "Fl(1,3;5)", "Gr(2;5)", "Fl(4)", "P3"
+    n               ambient dimension
+    dims            tuple (k_1, …, k_m)
+    steps           tuple (d_0, …, d_m) of step sizes, d_i = k_{i+1} − k_i
+    m               number of subspaces in the flag
+    kind            "grassmannian" | "complete" | "partial"
+    rank            number of torus-fixed points (multinomial coefficient)
+    equivariant     bool
+    presentations   tuple of presentation names as compared
+    verdict         "agree" | "disagree" | "inconclusive"
+    reason          why, in words ("limit: …" for a case stopped by a resource limit)
+    method          groebner | points | both (how the verdict was reached)
+    order           truncation order N of the Bethe points (None without points)
+    trials          number of independent trials
+    exact           bool (False: probabilistic, with the certificate's prime and seed)
+    certificate     "probabilistic" or "exact"
+    prime           prime of the first trial
+    primes          tuple of the primes of all trials
+    seed            seed of the first trial
+    seconds         wall-clock time of the case
+    finished_at     ISO time the case was stored (None for rows made here)
+    command         command line that produced the row (None if unknown)
+"""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Iterable, List, Optional, Sequence, Union
+
+from presentations.flagtype import FlagType, parse_flag
+
+Source = Union[str, Path, Sequence[dict]]
+
+FRAME_COLUMNS = ("case", "n", "dims", "steps", "m", "kind", "rank", "equivariant",
+                 "presentations", "verdict", "reason", "method", "order", "trials", "exact",
+                 "certificate", "prime", "primes", "seed", "seconds", "finished_at", "command")
+
+
+class SourceError(ValueError):
+    """A results source that cannot be read: one line naming the file and the problem."""
+
+
+def flag_kind(flag: FlagType) -> str:
+    if flag.is_grassmannian:
+        return "grassmannian"
+    return "complete" if flag.is_complete else "partial"
+
+
+def row_from_result(result: dict, *, seconds: Optional[float] = None,
+                    presentations: Optional[Sequence[str]] = None,
+                    command: Optional[str] = None) -> dict:
+    """A store-shaped row for one `check_case` result (the fields a sweep would store)."""
+    flag = parse_flag(result["case"])
+    timings = result.get("timings") or {}
+    if seconds is None:
+        seconds = float(sum(v for v in timings.values() if isinstance(v, (int, float))))
+    return {"case": result["case"], "n": flag.n, "rank": flag.rank, "kind": flag_kind(flag),
+            "dims": list(flag.dims),
+            "presentations": list(presentations or result["presentations"]),
+            "verdict": result["verdict"], "reason": result["reason"], "seconds": seconds,
+            "settings": {}, "result": result, "finished_at": None,
+            "run": {"command": command, "versions": {}}}
+
+
+def _is_row(item: dict) -> bool:
+    return "result" in item and "verdict" in item
+
+
+def _rows_from_json(path: Path) -> List[dict]:
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except UnicodeDecodeError:
+        raise SourceError(f"{path}: not a JSON text file") from None
+    except json.JSONDecodeError as error:
+        raise SourceError(f"{path}:{error.lineno}:{error.colno}: not valid JSON "
+                          f"({error.msg})") from None
+    items = data if isinstance(data, list) else [data]
+    rows = []
+    for index, item in enumerate(items):
+        if not isinstance(item, dict) or not ("case" in item and "verdict" in item):
+            raise SourceError(f"{path}: item {index} is neither a check result nor a "
+                              "stored row (needs 'case' and 'verdict')")
+        rows.append(item if _is_row(item) else row_from_result(item))
+    return rows
+
+
+def _rows_from_store(path: Path) -> List[dict]:
+    import sqlite3
+    try:
+        with path.open("rb") as handle:
+            header = handle.read(16)
+    except OSError as error:
+        raise SourceError(f"{path}: {error.strerror or error}") from None
+    if header != b"SQLite format 3\x00":
+        raise SourceError(f"{path}: neither a results store (SQLite) nor a .json file")
+    try:
+        from compare.store import load_results
+    except ImportError:
+        raise SourceError(f"{path}: reading a results store needs compare.store, which "
+                          "this installation lacks") from None
+    try:
+        return list(load_results(path))
+    except sqlite3.DatabaseError as error:
+        raise SourceError(f"{path}: unreadable results store ({error})") from None
+
+
+def load_rows(source: Source) -> List[dict]:
+    """Rows in the store's shape from a store file, a .json file, or rows/results in memory."""
+    if isinstance(source, (str, Path)):
+        path = Path(source)
+        if not path.exists():
+            raise SourceError(f"{path}: no such file")
+        if path.is_dir():
+            raise SourceError(f"{path}: is a directory, not a results store")
+        if path.suffix.lower() == ".json":
+            return _rows_from_json(path)
+        return _rows_from_store(path)
+    return [item if _is_row(item) else row_from_result(item) for item in source]
+
+
+def _versions_command(row: dict) -> Optional[str]:
+    run = row.get("run") or {}
+    return run.get("command")
+
+
+def frame_record(row: dict) -> dict:
+    """One DataFrame row (see the module docstring) from one store row."""
+    flag = FlagType(tuple(row["dims"]), row["n"])
+    result = row.get("result") or {}
+    certificate = result.get("certificate") or {}
+    trials = certificate.get("trials") or ([certificate] if certificate else [])
+    exact = bool(certificate.get("exact", False))
+    return {
+        "case": row["case"], "n": flag.n, "dims": flag.dims,
+        "steps": tuple(flag.d(i) for i in range(flag.m + 1)), "m": flag.m,
+        "kind": row.get("kind") or flag_kind(flag), "rank": row.get("rank", flag.rank),
+        "equivariant": result.get("equivariant"),
+        "presentations": tuple(row.get("presentations") or result.get("presentations", ())),
+        "verdict": row["verdict"], "reason": row.get("reason", ""),
+        "method": certificate.get("method"), "order": certificate.get("order"),
+        "trials": len(trials), "exact": exact,
+        "certificate": certificate.get("kind") or ("exact" if exact else "probabilistic"),
+        "prime": certificate.get("prime"),
+        "primes": tuple(t.get("prime") for t in trials),
+        "seed": certificate.get("seed"), "seconds": row.get("seconds"),
+        "finished_at": row.get("finished_at"), "command": _versions_command(row),
+    }
+
+
+def results_frame(path_or_rows: Source):
+    """A pandas DataFrame with the columns listed in this module's docstring.
+
+    `path_or_rows`: a store file, a .json file of check results, or a list of store rows /
+    check results.  The DataFrame keeps the source's order (the sweep order)."""
+    import pandas
+    records = [frame_record(row) for row in load_rows(path_or_rows)]
+    return pandas.DataFrame.from_records(records, columns=list(FRAME_COLUMNS))
+
+
+def distinct(values: Iterable) -> list:
+    """Values in first-seen order without repeats (None dropped)."""
+    seen, out = set(), []
+    for value in values:
+        if value is not None and value not in seen:
+            seen.add(value)
+            out.append(value)
+    return out

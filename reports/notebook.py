@@ -1,0 +1,139 @@
+"""Notebook display: small records that Jupyter renders as tables and formulas.
+
+Each record has `_repr_html_`, `_repr_latex_` and `_repr_markdown_`; nothing here imports
+IPython, so the module is as cheap to import in a script as in a notebook.
+
+    from reports.notebook import results_view, check_view, relations_view
+    results_view("runs.db")                 # the appendix table, as HTML
+    check_view(result)                      # one `check_case` result with its witnesses
+    relations_view("whitney", "Fl(3)")      # the relations in display math
+"""
+from __future__ import annotations
+
+import html
+from dataclasses import dataclass, field
+from typing import List, Optional
+
+from .frames import Source
+from .tables import TableOptions, build_table, latex_table, markdown_table
+
+
+def _html_table(headings: List[str], rows: List[List[str]]) -> str:
+    head = "".join(f"<th>{html.escape(h)}</th>" for h in headings)
+    body = "".join("<tr>" + "".join(f"<td>{html.escape(str(v))}</td>" for v in row) + "</tr>"
+                   for row in rows)
+    return f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
+
+
+@dataclass
+class ResultsView:
+    """The appendix table of a store (or rows), shown in a notebook."""
+    source: Source
+    options: TableOptions = field(default_factory=TableOptions)
+
+    def _table(self):
+        return build_table(self.source, self.options)
+
+    def _repr_html_(self) -> str:
+        table = self._table()
+        parts = []
+        for n, rows in table.groups:
+            if n is not None:
+                parts.append(f"<h4>n = {n}</h4>")
+            parts.append(_html_table([c.heading for c in table.headings], rows))
+        return "\n".join(parts)
+
+    def _repr_latex_(self) -> str:
+        return latex_table(self._table(), self.options)
+
+    def _repr_markdown_(self) -> str:
+        return markdown_table(self._table(), self.options)
+
+
+def results_view(source: Source, **options) -> ResultsView:
+    """`options` are the fields of `reports.tables.TableOptions` (columns, group_by_n, …)."""
+    if "columns" in options:
+        options["columns"] = tuple(options["columns"])
+    return ResultsView(source, TableOptions(**options))
+
+
+@dataclass
+class CheckView:
+    """One `check_case` result: verdict, presentations, pairs and witnesses."""
+    result: dict
+
+    def _record(self) -> dict:
+        from .discrepancy import report_record
+        return report_record(self.result)
+
+    def _repr_markdown_(self) -> str:
+        from .discrepancy import markdown_text
+        return markdown_text(self._record())
+
+    def _repr_html_(self) -> str:
+        record = self._record()
+        parts = [f"<p><b>{html.escape(record['case'])}</b>: {html.escape(record['verdict'])} "
+                 f"— {html.escape(record['reason'])}</p>",
+                 _html_table(["presentation", "colength", "colength at q = 0", "holds",
+                              "complete"],
+                             [[p["name"], p["colength"], p["classical_colength"], p["holds"],
+                               p["complete"]] for p in record["presentations"]])]
+        if record["pairs"]:
+            parts.append(_html_table(["first", "second", "verdict", "method", "reason"],
+                                     [[p["a"], p["b"], p["verdict"], p["method"], p["reason"]]
+                                      for p in record["pairs"]]))
+        for f in record["failed_relations"]:
+            formula = f" <code>{html.escape(f['formula'])}</code>" if f.get("formula") else ""
+            parts.append(f"<p>{html.escape(f['presentation'])} [{html.escape(f['relation'])}] "
+                         f"fails at the Bethe points over {html.escape(f['fixed_point'])}"
+                         f"{formula}</p>")
+        return "\n".join(parts)
+
+    def _repr_latex_(self) -> Optional[str]:
+        record = self._record()
+        failed = [f for f in record["failed_relations"] if f.get("latex")]
+        if not failed:
+            return None     # Jupyter then falls back to HTML
+        lines = [r"\begin{aligned}"]
+        from .tables import label_latex, latex_escape
+        lines += [rf"&\text{{{latex_escape(f['presentation'])} [{label_latex(f['relation'])}]: }}"
+                  rf" && {f['latex']} \\" for f in failed]
+        return "$$" + "\n".join(lines) + r"\end{aligned}$$"
+
+
+def check_view(result: dict) -> CheckView:
+    return CheckView(result)
+
+
+@dataclass
+class RelationsView:
+    """A presentation's relations for one flag type, rendered as display math."""
+    presentation: str
+    case: str
+    equivariant: bool = True
+
+    def _built(self):
+        from presentations import get_family
+        from presentations.flagtype import parse_flag
+        from presentations.interface import build_symbolic
+        family = get_family(self.presentation)
+        return build_symbolic(family, parse_flag(self.case), equivariant=self.equivariant)
+
+    def _repr_latex_(self) -> str:
+        from .tables import generator_latex, label_latex, relation_latex_lines
+        built = self._built()
+        symbol_latex = {g.name: generator_latex(g) for g in built.generators}
+        names = built.ring.ctx.names()
+        rows = []
+        for r in built.relations:
+            parts = relation_latex_lines(r.poly, names, symbol_latex, terms_per_line=6)
+            rows.append(rf"\text{{[{label_latex(r.label)}]}}\quad & " + r" \\ & \quad ".join(parts))
+        return r"$$\begin{aligned}" + r" \\ ".join(rows) + r"\end{aligned}$$"
+
+    def _repr_markdown_(self) -> str:
+        from .formulas import presentation_text
+        return "```\n" + presentation_text(self._built()) + "\n```"
+
+
+def relations_view(presentation: str, case: str, *, equivariant: bool = True) -> RelationsView:
+    return RelationsView(presentation, case, equivariant)

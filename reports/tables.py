@@ -1,0 +1,351 @@
+"""Appendix tables of sweep results: LaTeX (booktabs; longtable when long), CSV, Markdown.
+
+One row per case.  Columns are chosen by key (`COLUMNS`); rows can be grouped by n; small
+cases can be followed by their relations in display math (LaTeX and Markdown).  Every
+table ends with the reproducibility block of `reports.provenance`.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import re
+from dataclasses import dataclass, field
+from typing import Callable, Dict, List, Optional, Sequence, Tuple
+
+from . import provenance as prov
+from .frames import Source, frame_record, load_rows
+
+FORMATS = ("latex", "csv", "markdown")
+# Above this many rows a LaTeX table no longer fits on one page: it becomes a longtable.
+LONGTABLE_ROWS = 30
+# Relations are printed only for cases this small; larger ones fill pages with formulas.
+RELATIONS_MAX_RANK = 6
+
+
+@dataclass(frozen=True)
+class Column:
+    key: str
+    heading: str
+    latex_heading: str
+    align: str                         # LaTeX column alignment
+    value: Callable[[dict], str]       # from a frame record (reports.frames.frame_record)
+
+
+def _certificate_summary(r: dict) -> str:
+    parts = []
+    if r["order"]:
+        parts.append(f"s^{r['order']}")
+    parts.append(f"{r['trials']} trial" + ("s" if r["trials"] != 1 else ""))
+    parts.append(r["certificate"])
+    return ", ".join(parts)
+
+
+def _seconds(r: dict) -> str:
+    s = r["seconds"]
+    if s is None:
+        return ""
+    return f"{s:.2f}" if s < 10 else f"{s:.1f}" if s < 100 else f"{s:.0f}"
+
+
+COLUMNS: Dict[str, Column] = {c.key: c for c in (
+    Column("case", "flag type", "flag type", "l", lambda r: r["case"]),
+    Column("kind", "kind", "kind", "l", lambda r: r["kind"]),
+    Column("n", "n", "$n$", "r", lambda r: str(r["n"])),
+    Column("rank", "rank", "rank", "r", lambda r: str(r["rank"])),
+    Column("presentations", "presentations", "presentations", "l",
+           lambda r: ", ".join(r["presentations"])),
+    Column("verdict", "verdict", "verdict", "l", lambda r: r["verdict"]),
+    Column("reason", "reason", "reason", "l", lambda r: r["reason"]),
+    Column("method", "method", "method", "l", lambda r: r["method"] or ""),
+    Column("order", "order", "order", "r", lambda r: str(r["order"] or "")),
+    Column("trials", "trials", "trials", "r", lambda r: str(r["trials"])),
+    Column("exactness", "exact/probabilistic", "exact/prob.", "l", lambda r: r["certificate"]),
+    Column("certificate", "certificate", "certificate", "l", _certificate_summary),
+    Column("prime", "prime", "prime", "r", lambda r: str(r["prime"] or "")),
+    Column("seed", "seed", "seed", "r", lambda r: str(r["seed"] if r["seed"] is not None else "")),
+    Column("seconds", "time (s)", "time (s)", "r", _seconds),
+)}
+DEFAULT_COLUMNS = ("case", "rank", "presentations", "verdict", "certificate", "seconds")
+
+
+class TableError(ValueError):
+    """A table option that makes no sense (e.g. an unknown column)."""
+
+
+@dataclass(frozen=True)
+class TableOptions:
+    columns: Tuple[str, ...] = DEFAULT_COLUMNS
+    group_by_n: bool = False
+    relations: bool = False               # print relations of cases up to relations_max_rank
+    relations_max_rank: int = RELATIONS_MAX_RANK
+    standalone: bool = False              # LaTeX: a whole document instead of a fragment
+    command: Optional[str] = None         # for the reproducibility block
+    caption: str = "Comparison of presentations, one row per case."
+
+
+def parse_columns(text: str) -> Tuple[str, ...]:
+    keys = tuple(k.strip() for k in text.split(","))
+    unknown = [k for k in keys if k not in COLUMNS]
+    if unknown or not all(keys):
+        bad = ", ".join(repr(k) for k in unknown) or "an empty name"
+        raise TableError(f"unknown column {bad}; choose from {', '.join(COLUMNS)}")
+    return keys
+
+
+@dataclass
+class Table:
+    """Rows of display strings, grouped (one group unless grouped by n), plus provenance."""
+    headings: List[Column]
+    groups: List[Tuple[Optional[int], List[List[str]]]]
+    records: List[dict]
+    rows: List[dict]                      # the store rows, for relations and provenance
+    provenance: dict = field(default_factory=dict)
+
+
+def build_table(source: Source, options: TableOptions = TableOptions()) -> Table:
+    rows = load_rows(source)
+    for key in options.columns:
+        if key not in COLUMNS:
+            raise TableError(f"unknown column {key!r}; choose from {', '.join(COLUMNS)}")
+    columns = [COLUMNS[k] for k in options.columns]
+    records = [frame_record(row) for row in rows]
+    groups: List[Tuple[Optional[int], List[List[str]]]] = []
+    if options.group_by_n:
+        for n in sorted({r["n"] for r in records}):
+            groups.append((n, [[c.value(r) for c in columns] for r in records if r["n"] == n]))
+    else:
+        groups.append((None, [[c.value(r) for c in columns] for r in records]))
+    return Table(columns, groups, records, rows, prov.provenance(rows, options.command))
+
+
+# ---------------------------------------------------------------------------------------
+# LaTeX
+
+_LATEX_SPECIALS = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#",
+                   "_": r"\_", "{": r"\{", "}": r"\}", "~": r"\textasciitilde{}",
+                   "^": r"\textasciicircum{}"}
+# Text from results (reasons, notes) may contain these; pdflatex needs them spelled out.
+_LATEX_UNICODE = {"–": "--", "—": "---", "≠": r"$\neq$", "≤": r"$\leq$", "≥": r"$\geq$",
+                  "λ": r"$\lambda$", "·": r"$\cdot$", "…": r"\ldots{}", "→": r"$\to$",
+                  "⊂": r"$\subset$", "ö": r"\"o", "′": "'", "−": "-", "×": r"$\times$"}
+
+
+def latex_escape(text: str) -> str:
+    out = []
+    for ch in str(text):
+        if ch in _LATEX_SPECIALS:
+            out.append(_LATEX_SPECIALS[ch])
+        elif ch in _LATEX_UNICODE:
+            out.append(_LATEX_UNICODE[ch])
+        elif ord(ch) > 127:
+            out.append("?")     # no glyph in the default fonts; never break compilation
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def _latex_cell(column: Column, value: str) -> str:
+    if column.key == "certificate" and value.startswith("s^"):   # s^N: a power of s
+        power, _, rest = value[2:].partition(", ")
+        return f"$s^{{{power}}}$, " + latex_escape(rest)
+    return latex_escape(value)
+
+
+def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
+    columns = table.headings
+    spec = "".join(c.align for c in columns)
+    header = " & ".join(c.latex_heading for c in columns) + r" \\"
+    count = sum(len(rows) for _, rows in table.groups)
+    long = count > LONGTABLE_ROWS
+    body: List[str] = []
+    for n, rows in table.groups:
+        if n is not None:
+            if body:
+                body.append(r"\midrule")
+            body.append(rf"\multicolumn{{{len(columns)}}}{{l}}{{\emph{{$n = {n}$}}}} \\")
+            body.append(r"\addlinespace[2pt]")
+        body += [" & ".join(_latex_cell(c, v) for c, v in zip(columns, row)) + r" \\"
+                 for row in rows]
+    caption = latex_escape(options.caption)
+    lines = ["% ringmatch results table; needs \\usepackage{booktabs}"
+             + (", \\usepackage{longtable}" if long else "")
+             + (", \\usepackage{amsmath}" if options.relations else "")]
+    if long:
+        lines += [rf"\begin{{longtable}}{{{spec}}}", rf"\caption{{{caption}}}\\",
+                  r"\toprule", header, r"\midrule", r"\endfirsthead",
+                  rf"\multicolumn{{{len(columns)}}}{{l}}{{\emph{{(continued)}}}} \\",
+                  r"\toprule", header, r"\midrule", r"\endhead",
+                  r"\bottomrule", r"\endfoot", *body, r"\end{longtable}"]
+    else:
+        lines += [r"\begin{table}[htbp]", r"\centering", rf"\caption{{{caption}}}",
+                  rf"\begin{{tabular}}{{{spec}}}", r"\toprule", header, r"\midrule", *body,
+                  r"\bottomrule", r"\end{tabular}", r"\end{table}"]
+    if options.relations:
+        lines += relations_latex(table.rows, options.relations_max_rank)
+    lines += [f"% {line}" for line in prov.provenance_lines(table.provenance)]
+    text = "\n".join(lines) + "\n"
+    if options.standalone:
+        return latex_document(text, long=long, relations=options.relations)
+    return text
+
+
+def latex_document(fragment: str, *, long: bool, relations: bool) -> str:
+    packages = ["booktabs"] + (["longtable"] if long else []) + \
+        (["amsmath"] if relations else [])
+    return "\n".join([r"\documentclass[10pt]{article}",
+                      *[rf"\usepackage{{{p}}}" for p in packages],
+                      r"\begin{document}", fragment.rstrip("\n"), r"\end{document}", ""])
+
+
+# ---------------------------------------------------------------------------------------
+# Relations of small cases
+
+_MEANING_LATEX = {"lambda_S": r"\lambda_{{{j}}}(S_{{{i}}})", "lambda_Q": r"\lambda_{{{j}}}(Q_{{{i}}})",
+                  "vieta_aux": r"e_{{{j}}}(Y^{{({i})}})", "toda_L": r"L_{{{i}}}",
+                  "root": r"X^{{({i})}}_{{{j}}}"}
+
+
+def generator_latex(generator) -> str:
+    m = generator.meaning
+    return _MEANING_LATEX[m.kind].format(i=m.level, j=m.index)
+
+
+def relation_latex_lines(poly, names: Sequence[str], symbol_latex: Dict[str, str],
+                         terms_per_line: int = 4) -> List[str]:
+    """The relation `poly = 0` as display lines of a few terms each (long sums would run
+    off the page)."""
+    import sympy
+    from .formulas import to_sympy
+    symbols = {sympy.Symbol(k): v for k, v in symbol_latex.items()}
+    expr = to_sympy(poly, names)
+    terms = sympy.Add.make_args(expr) if expr != 0 else (sympy.Integer(0),)
+    terms = sorted(terms, key=sympy.default_sort_key)
+    pieces = []
+    for index, term in enumerate(terms):
+        text = sympy.latex(term, symbol_names=symbols)
+        if index and not text.startswith("-"):
+            text = "+ " + text
+        pieces.append(text)
+    lines = [" ".join(pieces[k:k + terms_per_line]) for k in range(0, len(pieces), terms_per_line)]
+    lines[-1] += " = 0"
+    return lines
+
+
+def _case_relations(row: dict, max_rank: int):
+    """(presentation name, generators, [(label, lines)]) for each presentation of a small
+    case that can be rebuilt by name; names that cannot are returned with None."""
+    from presentations import get_family
+    from presentations.flagtype import parse_flag
+    from presentations.interface import build_symbolic
+    flag = parse_flag(row["case"])
+    if flag.rank > max_rank:
+        return []
+    equivariant = (row.get("result") or {}).get("equivariant", True)
+    out = []
+    for name in row["presentations"]:
+        try:
+            family = get_family(name)
+            presentation = build_symbolic(family, flag, equivariant=equivariant)
+        except Exception:   # a file that moved, a plug-in not installed here
+            out.append((name, None, None))
+            continue
+        symbol_latex = {g.name: generator_latex(g) for g in presentation.generators}
+        names = presentation.ring.ctx.names()
+        out.append((family.name, presentation.generators,
+                    [(r.label, relation_latex_lines(r.poly, names, symbol_latex))
+                     for r in presentation.relations]))
+    return out
+
+
+def label_latex(label: str) -> str:
+    """A relation label for text mode, its powers of y as math ("level 1, y^2")."""
+    pieces = re.split(r"\^(\d+)", label)
+    out = latex_escape(pieces[0])
+    for power, text in zip(pieces[1::2], pieces[2::2]):
+        out = out[:-1] + f"${out[-1]}^{{{power}}}$" if out and out[-1].isalpha() else \
+            out + rf"\textasciicircum{{}}{power}"
+        out += latex_escape(text)
+    return out
+
+
+def relations_latex(rows: Sequence[dict], max_rank: int) -> List[str]:
+    lines: List[str] = []
+    for row in rows:
+        for name, generators, relations in _case_relations(row, max_rank):
+            title = f"{row['case']}, {name}"
+            if relations is None:
+                lines.append(f"% relations of {title}: presentation not available here")
+                continue
+            lines += ["", rf"\paragraph{{{latex_escape(title)}}}", r"\begin{align*}"]
+            for label, parts in relations:
+                lines.append(rf"\text{{[{label_latex(label)}]}}\quad & {parts[0]} \\")
+                lines += [rf"& \qquad {part} \\" for part in parts[1:]]
+            lines[-1] = lines[-1].rstrip(" \\")
+            lines.append(r"\end{align*}")
+    return lines
+
+
+def relations_markdown(rows: Sequence[dict], max_rank: int) -> List[str]:
+    lines: List[str] = []
+    for row in rows:
+        for name, _, relations in _case_relations(row, max_rank):
+            if relations is None:
+                lines += ["", f"Relations of {row['case']}, {name}: presentation not "
+                          "available here."]
+                continue
+            lines += ["", f"**{row['case']}, {name}**", ""]
+            for label, parts in relations:
+                lines += [f"[{label}]", "", "$$", " ".join(parts), "$$", ""]
+    return lines
+
+
+# ---------------------------------------------------------------------------------------
+# CSV and Markdown
+
+def csv_table(table: Table) -> str:
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    headings = [c.key for c in table.headings]
+    grouped = table.groups[0][0] is not None
+    writer.writerow((["n"] if grouped and "n" not in headings else []) + headings)
+    for n, rows in table.groups:
+        for row in rows:
+            writer.writerow(([n] if grouped and "n" not in headings else []) + row)
+    for line in prov.provenance_lines(table.provenance):
+        out.write(f"# {line}\n")
+    return out.getvalue()
+
+
+def _markdown_cell(value: str) -> str:
+    return value.replace("|", "\\|")
+
+
+def markdown_table(table: Table, options: TableOptions = TableOptions()) -> str:
+    from tabulate import tabulate
+    headings = [c.heading for c in table.headings]
+    lines: List[str] = []
+    for n, rows in table.groups:
+        if n is not None:
+            lines += [f"#### n = {n}", ""]
+        lines.append(tabulate([[_markdown_cell(v) for v in row] for row in rows],
+                              headers=headings, tablefmt="github",
+                              colalign=["right" if c.align == "r" else "left"
+                                        for c in table.headings]))
+        lines.append("")
+    lines.insert(0, options.caption + "[^reproduce]")
+    lines.insert(1, "")
+    if options.relations:
+        lines += relations_markdown(table.rows, options.relations_max_rank) + [""]
+    lines.append("[^reproduce]: " + "  \n    ".join(prov.provenance_lines(table.provenance)))
+    return "\n".join(lines) + "\n"
+
+
+def render(source: Source, fmt: str, options: TableOptions = TableOptions()) -> str:
+    if fmt not in FORMATS:
+        raise TableError(f"unknown format {fmt!r}; choose from {', '.join(FORMATS)}")
+    table = build_table(source, options)
+    if fmt == "latex":
+        return latex_table(table, options)
+    if fmt == "csv":
+        return csv_table(table)
+    return markdown_table(table, options)

@@ -1,0 +1,160 @@
+"""Agreement map (reports/figures.py): rendered files, stored provenance, layout, palette.
+
+The cases are real `check_case` results with all three verdicts.
+"""
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+import xml.etree.ElementTree as ET
+
+import pytest
+
+pytest.importorskip("matplotlib", reason="matplotlib is a dependency in pyproject.toml; "
+                                         "install the project to draw figures")
+from PIL import Image  # noqa: E402  (matplotlib depends on Pillow)
+
+from compare.engine import check_case  # noqa: E402
+from presentations import get_family  # noqa: E402
+from presentations.flagtype import parse_flag  # noqa: E402
+from reports.figures import (VERDICT_STYLES, FigureError, agreement_map,  # noqa: E402
+                             choose_layout, marker_positions, stored_provenance)
+from reports.frames import frame_record, row_from_result  # noqa: E402
+
+CASES = [("P1", ("whitney", "vieta"), "auto"), ("P2", ("whitney", "vieta"), "auto"),
+         ("Gr(2;4)", ("whitney", "vieta"), "auto"),
+         ("Fl(1,2;3)", ("whitney", "whitney-sign-error"), "auto"),
+         ("Fl(1,3;4)", ("whitney", "whitney-sign-error"), "auto"),
+         ("Fl(2,3;4)", ("whitney", "vieta"), "points"),
+         ("Fl(1,2;4)", ("whitney", "vieta"), "points")]
+
+
+@pytest.fixture(scope="module")
+def rows():
+    return [row_from_result(check_case(parse_flag(case), [get_family(n) for n in names],
+                                       seed=9, method=method))
+            for case, names, method in CASES]
+
+
+def hex_rgb(colour):
+    return tuple(int(colour[k:k + 2], 16) for k in (1, 3, 5))
+
+
+def pixels_near(image, rgb, tolerance=12):
+    counts = image.convert("RGB").getcolors(maxcolors=1 << 24)
+    return sum(count for count, pixel in counts
+               if all(abs(a - b) <= tolerance for a, b in zip(pixel, rgb)))
+
+
+def test_verdicts_cover_all_three(rows):
+    assert {row["verdict"] for row in rows} == {"agree", "disagree", "inconclusive"}
+
+
+def test_png_size_content_and_metadata(rows, tmp_path):
+    path = agreement_map(rows, tmp_path / "map.png", dpi=100, command="ringmatch figure t")
+    with Image.open(path) as image:
+        width, height = image.size
+        assert width == 330 and 200 <= height <= 400          # 3.3 in at 100 dpi
+        colours = image.convert("RGB").getcolors(maxcolors=1 << 20)
+        assert len(colours) > 20                                # antialiased, not blank
+        for verdict in ("agree", "disagree", "inconclusive"):
+            assert pixels_near(image, hex_rgb(VERDICT_STYLES[verdict].colour)) > 20, verdict
+        background = max(colours)[1]
+        assert background == (255, 255, 255)
+    text = stored_provenance(path)
+    assert "produced by: ringmatch figure t" in text
+    assert str(rows[0]["result"]["certificate"]["prime"]) in text
+    assert "Fl(3) 9" in text and "layout: steps" in text
+
+
+@pytest.mark.parametrize("suffix", ["svg", "pdf"])
+def test_vector_formats_store_provenance(rows, tmp_path, suffix):
+    path = agreement_map(rows, tmp_path / f"map.{suffix}", command=f"ringmatch figure {suffix}")
+    assert path.stat().st_size > 1000
+    if suffix == "svg":
+        ET.fromstring(path.read_bytes())      # well-formed
+    else:
+        assert path.read_bytes().startswith(b"%PDF")
+    text = stored_provenance(path)
+    assert f"produced by: ringmatch figure {suffix}" in text
+    assert "matplotlib" in text and "primes:" in text
+
+
+def test_markers_stay_in_their_cells(rows):
+    records = [frame_record(row) for row in rows]
+    markers = marker_positions(records, "steps")
+    assert len(markers) == len(records)
+    by_case = {r["case"]: r for r in records}
+    for marker in markers:
+        r = by_case[marker.case]
+        assert abs(marker.x - r["n"]) < 0.5 and abs(marker.y - r["m"]) < 0.5
+    assert len({(m.x, m.y) for m in markers}) == len(markers)
+
+
+def test_grassmannian_layout(rows):
+    records = [frame_record(row) for row in rows]
+    grassmannians = [r for r in records if r["kind"] == "grassmannian"]
+    assert choose_layout(grassmannians, "auto") == "grassmannian"
+    assert choose_layout(records, "auto") == "steps"
+    markers = marker_positions(records, "grassmannian")
+    assert sorted((round(m.x), round(m.y)) for m in markers) == [(2, 1), (3, 1), (4, 2)]
+
+
+# Colour-vision deficiency simulation matrices of Machado, Oliveira & Fernandes, "A
+# physiologically-based model for simulation of color vision deficiency", IEEE TVCG 15
+# (2009), severity 1.0, acting on linear RGB.  Values recalled from memory.
+CVD = {
+    "protanopia": ((0.152286, 1.052583, -0.204868), (0.114503, 0.786281, 0.099216),
+                   (-0.003882, -0.048116, 1.051998)),
+    "deuteranopia": ((0.367322, 0.860646, -0.227968), (0.280085, 0.672501, 0.047413),
+                     (-0.011820, 0.042940, 0.968881)),
+    "tritanopia": ((1.255528, -0.076749, -0.178779), (-0.078411, 0.930809, 0.147602),
+                   (0.004733, 0.691367, 0.303900)),
+}
+
+
+def linear(colour):
+    def channel(c):
+        c /= 255
+        return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4
+    return [channel(c) for c in hex_rgb(colour)]
+
+
+def test_palette_stays_distinct_under_colour_vision_deficiencies():
+    colours = [linear(style.colour) for style in VERDICT_STYLES.values()]
+    for name, matrix in CVD.items():
+        seen = [[sum(m * c for m, c in zip(row, rgb)) for row in matrix] for rgb in colours]
+        for a in range(len(seen)):
+            for b in range(a + 1, len(seen)):
+                distance = sum((x - y) ** 2 for x, y in zip(seen[a], seen[b])) ** 0.5
+                assert distance > 0.15, (name, a, b, distance)
+    # and in greyscale (relative luminance, ITU-R BT.709 weights)
+    luminance = sorted(0.2126 * r + 0.7152 * g + 0.0722 * b for r, g, b in colours)
+    assert all(b - a > 0.1 for a, b in zip(luminance, luminance[1:]))
+    assert len({style.marker for style in VERDICT_STYLES.values()}) == len(VERDICT_STYLES)
+
+
+def test_bad_requests(rows, tmp_path):
+    with pytest.raises(FigureError, match="'.gif'"):
+        agreement_map(rows, tmp_path / "map.gif")
+    with pytest.raises(FigureError, match="no cases"):
+        agreement_map([], tmp_path / "map.png")
+    with pytest.raises(FigureError, match="no Grassmannian"):
+        agreement_map([rows[3]], tmp_path / "map.png", layout="grassmannian")
+
+
+def test_cli_figure(rows, tmp_path):
+    source = tmp_path / "results.json"
+    source.write_text(json.dumps([row["result"] for row in rows]))
+    out = tmp_path / "agreement.png"
+    run = subprocess.run([sys.executable, "-m", "compare.cli", "figure", str(source),
+                          "--out", str(out)], capture_output=True, text=True, timeout=120)
+    assert run.returncode == 0, run.stderr
+    with Image.open(out) as image:
+        assert image.size[0] == 990                            # 3.3 in at 300 dpi
+    assert f"ringmatch figure {source}" in stored_provenance(out)
+    bad = subprocess.run([sys.executable, "-m", "compare.cli", "figure", str(source),
+                          "--out", str(tmp_path / "x.jpg")], capture_output=True, text=True,
+                         timeout=120)
+    assert bad.returncode == 2 and len(bad.stderr.strip().splitlines()) == 1

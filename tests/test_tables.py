@@ -1,0 +1,228 @@
+"""Appendix tables and the DataFrame API (reports/tables.py, reports/frames.py).
+
+The rows are real `check_case` results (an agreement, a disagreement with the shipped wrong
+conjecture, an inconclusive points-only check), in the shape the sweeps' store returns.
+The LaTeX output is compiled with a real TeX engine.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+import shutil
+import subprocess
+import sys
+from importlib import metadata
+
+import pytest
+
+from compare.engine import check_case
+from presentations import get_family
+from presentations.flagtype import parse_flag
+from reports.frames import FRAME_COLUMNS, SourceError, load_rows, results_frame, row_from_result
+from reports.tables import (LONGTABLE_ROWS, TableError, TableOptions, build_table, csv_table,
+                            latex_table, markdown_table, parse_columns, render)
+
+CASES = [("P2", ("whitney", "vieta"), "auto", 3),
+         ("Fl(1,2;3)", ("whitney", "whitney-sign-error"), "auto", 4),
+         ("Gr(2;4)", ("whitney", "vieta"), "points", 5)]   # points alone leave vieta undecided
+
+
+@pytest.fixture(scope="module")
+def rows():
+    out = []
+    for case, names, method, seed in CASES:
+        result = check_case(parse_flag(case), [get_family(n) for n in names], seed=seed,
+                            method=method)
+        out.append(row_from_result(result, command=f"ringmatch check {case} (test)"))
+    return out
+
+
+@pytest.fixture(scope="module")
+def results_file(rows, tmp_path_factory):
+    path = tmp_path_factory.mktemp("results") / "results.json"
+    path.write_text(json.dumps([row["result"] for row in rows]))
+    return path
+
+
+def multinomial(n, dims):
+    chain = (0, *dims, n)
+    value = math.factorial(n)
+    for a, b in zip(chain, chain[1:]):
+        value //= math.factorial(b - a)
+    return value
+
+
+def test_frame_columns_and_values(rows):
+    frame = results_frame(rows)
+    assert list(frame.columns) == list(FRAME_COLUMNS)
+    assert list(frame["case"]) == ["P2", "Fl(3)", "Gr(2;4)"]
+    assert list(frame["verdict"]) == ["agree", "disagree", "inconclusive"]
+    # Standard fact (DESIGN.md §1): rank = n!/(k_1! d_1! ⋯ d_m!), computed here directly.
+    for _, r in frame.iterrows():
+        assert r["rank"] == multinomial(r["n"], r["dims"])
+        assert sum(r["steps"]) == r["n"] and len(r["steps"]) == r["m"] + 1
+    assert list(frame["kind"]) == ["grassmannian", "complete", "grassmannian"]
+    assert list(frame["method"]) == ["both", "both", "points"]
+    assert not frame["exact"].any() and set(frame["certificate"]) == {"probabilistic"}
+    assert list(frame["seed"]) == [seed for *_, seed in CASES]
+
+
+def test_frame_from_json_file_matches_rows(rows, results_file):
+    from_rows = results_frame(rows).drop(columns=["seconds", "command"])
+    from_file = results_frame(results_file).drop(columns=["seconds", "command"])
+    assert from_rows.equals(from_file)
+
+
+@pytest.mark.parametrize("content, fragment", [
+    ("{not json", "not valid JSON"), ('[{"x": 1}]', "item 0"), ("", "not valid JSON")])
+def test_bad_json_sources(tmp_path, content, fragment):
+    path = tmp_path / "bad.json"
+    path.write_text(content)
+    with pytest.raises(SourceError, match=fragment):
+        load_rows(path)
+
+
+def test_csv_rows_and_reproducibility_block(rows):
+    text = render(rows, "csv", TableOptions(columns=parse_columns("case,rank,verdict,prime,seed"),
+                                            command="ringmatch table x.db --format csv"))
+    body = [line for line in text.splitlines() if not line.startswith("#")]
+    comments = [line for line in text.splitlines() if line.startswith("#")]
+    parsed = list(csv.reader(io.StringIO("\n".join(body))))
+    assert parsed[0] == ["case", "rank", "verdict", "prime", "seed"]
+    frame = results_frame(rows)
+    assert parsed[1:] == [[r["case"], str(r["rank"]), r["verdict"], str(r["prime"]),
+                           str(r["seed"])] for _, r in frame.iterrows()]
+    # the block comes after the table and names versions, primes, seeds and the command
+    assert text.index("#") > text.index("Gr(2;4)")
+    block = "\n".join(comments)
+    assert "ringmatch table x.db --format csv" in block
+    assert f"python-flint {metadata.version('python-flint')}" in block
+    assert str(frame["prime"][0]) in block
+    assert "Fl(3) 4" in block and "run: ringmatch check P2 (test)" in block
+
+
+def test_csv_grouped_by_n_leads_with_n(rows):
+    table = build_table(rows, TableOptions(columns=("case", "verdict"), group_by_n=True))
+    parsed = list(csv.reader(io.StringIO(csv_table(table).split("\n#")[0])))
+    assert parsed[0] == ["n", "case", "verdict"]
+    assert [p[0] for p in parsed[1:]] == ["3", "3", "4"]
+
+
+def test_markdown_footnote(rows):
+    text = markdown_table(build_table(rows, TableOptions(command="ringmatch table s.db")))
+    assert text.count("[^reproduce]") == 2
+    assert "\n[^reproduce]: produced by: ringmatch table s.db" in text
+    table_lines = [line for line in text.splitlines() if line.startswith("| ")]
+    assert len(table_lines) == 1 + len(rows)
+
+
+def test_unknown_column_and_format(rows):
+    with pytest.raises(TableError, match="'colour'"):
+        parse_columns("case,colour")
+    with pytest.raises(TableError, match="'html'"):
+        render(rows, "html")
+
+
+def test_latex_short_and_long_forms(rows):
+    short = latex_table(build_table(rows))
+    assert r"\begin{tabular}" in short and "longtable" not in short
+    for rule in (r"\toprule", r"\midrule", r"\bottomrule"):
+        assert rule in short
+    assert r"$s^{6}$, 1 trial, probabilistic" in short
+    many = rows * (LONGTABLE_ROWS // len(rows) + 1)
+    long = latex_table(build_table(many))
+    assert r"\begin{longtable}" in long and r"\endhead" in long
+    provenance = [line for line in long.splitlines() if line.startswith("% primes:")]
+    assert provenance and str(rows[0]["result"]["certificate"]["prime"]) in provenance[0]
+    assert long.rstrip().splitlines()[-1].startswith("% ")   # the block is under the table
+
+
+def test_relations_of_small_cases_in_display_math(rows):
+    text = latex_table(build_table(rows, TableOptions(relations=True)), TableOptions(relations=True))
+    assert r"\paragraph{P2, whitney}" in text and r"\paragraph{Fl(3), whitney-sign-error}" in text
+    assert "Gr(2;4)" in text   # rank 6 is small enough
+    # det S · det Q = (1 − q) T_1 T_2 T_3 in QK_T(P^2) (arXiv:2208.01091): the top Whitney
+    # relation of P2, here λ_1(S_1) λ_2(Q_1) − T1T2T3 + T1T2T3 q1 = 0.
+    top = [line for line in text.splitlines() if "level 1, $y^{3}$" in line and
+           r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1})" in line]
+    assert top and top[0].rstrip(" \\").endswith(
+        r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1}) - T_{1} T_{2} T_{3} + T_{1} T_{2} T_{3} q_{1} = 0")
+
+
+def tex_engine():
+    for name in ("pdflatex", "lualatex", "tectonic"):
+        path = shutil.which(name)
+        if path:
+            return name, path
+    pytest.skip("no TeX engine on PATH (pdflatex, lualatex or tectonic); .ci/run installs "
+                "texlive-latex-base and texlive-latex-recommended when apt-get can")
+
+
+def compile_latex(source: str, directory):
+    name, path = tex_engine()
+    (directory / "doc.tex").write_text(source)
+    command = [path, "doc.tex"] if name == "tectonic" else \
+        [path, "-interaction=nonstopmode", "-halt-on-error", "doc.tex"]
+    run = subprocess.run(command, cwd=directory, capture_output=True, text=True, timeout=180)
+    log = (directory / "doc.log").read_text(errors="replace") \
+        if (directory / "doc.log").exists() else run.stdout
+    assert run.returncode == 0, log[-3000:]
+    assert (directory / "doc.pdf").stat().st_size > 1000
+    return log
+
+
+def test_latex_compiles_standalone_with_relations(rows, tmp_path):
+    options = TableOptions(group_by_n=True, relations=True, standalone=True,
+                           command="ringmatch table runs.db --format latex")
+    compile_latex(render(rows, "latex", options), tmp_path)
+
+
+def test_latex_longtable_compiles_and_breaks_pages(rows, tmp_path):
+    many = rows * 30     # 90 rows: more than one page
+    options = TableOptions(columns=parse_columns("case,kind,n,rank,presentations,verdict,"
+                                                 "certificate,seconds"), group_by_n=True,
+                           standalone=True)
+    log = compile_latex(render(many, "latex", options), tmp_path)
+    if "Output written" in log:   # pdflatex and lualatex report the page count
+        pages = int(log.split("Output written on doc.pdf (")[1].split(" page")[0])
+        assert pages >= 2
+
+
+def test_latex_fragment_compiles_inside_a_paper(rows, tmp_path):
+    fragment = render(rows, "latex", TableOptions(columns=parse_columns("case,reason,verdict")))
+    (tmp_path / "appendix.tex").write_text(fragment)
+    paper = "\n".join([r"\documentclass{article}", r"\usepackage{booktabs}",
+                       r"\begin{document}", r"\section*{Appendix}", r"\input{appendix}",
+                       r"\end{document}", ""])
+    compile_latex(paper, tmp_path)
+
+
+def run_cli(*args, cwd=None):
+    return subprocess.run([sys.executable, "-m", "compare.cli", *args], capture_output=True,
+                          text=True, timeout=120, cwd=cwd)
+
+
+def test_cli_table_csv(results_file):
+    run = run_cli("table", str(results_file), "--format", "csv", "--columns", "case,verdict")
+    assert run.returncode == 0, run.stderr
+    lines = run.stdout.splitlines()
+    assert lines[:4] == ["case,verdict", "P2,agree", "Fl(3),disagree", "Gr(2;4),inconclusive"]
+    assert any(line.startswith("# produced by: ringmatch table") for line in lines)
+
+
+@pytest.mark.parametrize("make, args, fragment", [
+    (None, ["table", "missing.db"], "missing.db: no such file"),
+    ("text", ["table", "plain.db"], "neither a results store"),
+    (None, ["table", "{results}", "--columns", "case,nope"], "'nope'"),
+    (None, ["table", "{results}", "--format", "html"], "html"),
+])
+def test_cli_table_errors(tmp_path, results_file, make, args, fragment):
+    if make:
+        (tmp_path / "plain.db").write_text("not a database")
+    args = [a.replace("{results}", str(results_file)) for a in args]
+    run = run_cli(*args, cwd=tmp_path)
+    assert run.returncode == 2
+    assert len(run.stderr.strip().splitlines()) == 1 and fragment in run.stderr
+    assert "Traceback" not in run.stderr
