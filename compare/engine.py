@@ -33,6 +33,9 @@ GROEBNER_COLENGTH_LIMIT = 150
 # saturating the Vandermonde products makes it far costlier per unit of colength (Fl(2,3;4),
 # colength 144: 35 s against 0.1 s for Whitney of rank 120), hence a lower limit.
 REFERENCE_COLENGTH_LIMIT = 80
+# Classical (q = 0) ideals are far cheaper (Whitney for Fl(6): 0.1 s), and their colength is
+# what completeness needs, so they get a much higher automatic limit.
+CLASSICAL_COLENGTH_LIMIT = 5040
 DEFAULT_ORDER = 6
 MAX_WITNESSES = 3
 METHODS = ("auto", "groebner", "points", "both")
@@ -49,6 +52,9 @@ class PresentationReport:
     holds: Optional[bool] = None
     separates: Optional[bool] = None
     complete: Optional[bool] = None
+    classical_method: Optional[str] = None
+    fixed_points_ok: Optional[bool] = None   # at q = 0: relations vanish, units do not,
+                                             # generators separate the fixed points
     failures: List[dict] = field(default_factory=list)
     notes: List[str] = field(default_factory=list)
 
@@ -133,6 +139,51 @@ def own_ideal(family: Family, flag: FlagType, spec: algebra.Specialisation) -> I
     basis = groebner.groebner_basis(polys)
     return Ideal(presentation.ring, list(presentation.relations), basis,
                  groebner.colength(basis))
+
+
+def _unit_factors(units: Sequence) -> list:
+    factors = []
+    for unit in units:
+        for factor, _ in unit.factor()[1]:
+            factor = factor * pow(int(factor.leading_coefficient()), -1,
+                                  factor.context().modulus())
+            if factor not in factors:
+                factors.append(factor)
+    return factors
+
+
+def without_unit_factors(poly, unit_factors: Sequence):
+    """The polynomial with every irreducible factor that divides a unit removed; it
+    generates the same ideal once the units are inverted."""
+    if poly.is_zero():
+        return poly
+    constant, factors = poly.factor()
+    kept = poly.context().constant(1)
+    for factor, power in factors:
+        monic = factor * pow(int(factor.leading_coefficient()), -1, factor.context().modulus())
+        if monic not in unit_factors:
+            kept = kept * factor ** power
+    return kept
+
+
+def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisation,
+                       fixed_points_ok: bool) -> Tuple[Optional[int], str]:
+    """Colength at q = 0 with the units inverted, and how it was obtained.
+
+    Inverting units by extra variables is what makes these bases slow, so when the fixed
+    points give the lower bound (rank distinct points where the relations vanish and the
+    units do not), the relations with their unit factors removed — an ideal inside the
+    localised one, so an upper bound — settle it whenever that bound is the rank."""
+    presentation = build_specialised(family, flag, classical(spec))
+    if presentation.units and fixed_points_ok:
+        factors = _unit_factors(presentation.units)
+        stripped = [without_unit_factors(r.poly, factors) for r in presentation.relations]
+        bound = groebner.colength(groebner.groebner_basis(stripped))
+        if bound == flag.rank:
+            return bound, ("Gröbner basis of the relations without unit factors (upper bound) "
+                           "and the fixed points (lower bound)")
+    how = "Gröbner basis with each unit inverted" if presentation.units else "Gröbner basis"
+    return own_ideal(family, flag, classical(spec)).colength, how
 
 
 @dataclass
@@ -226,6 +277,8 @@ def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Spe
         result = points.check_holds_family(family, flag, lifted)
         report.holds = result.holds
         report.separates = result.separates
+        report.fixed_points_ok = bool(result.separates and not result.classical_failure
+                                      and not result.unit_failures)
         report.failures = [failure.as_dict() for failure in result.failures[:MAX_WITNESSES]]
         report.failures += [dict(failure.as_dict(), relation=f"unit {failure.unit} vanishes")
                             for failure in result.unit_failures[:MAX_WITNESSES]]
@@ -292,20 +345,6 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
             family.name, len(probe.generators), len(probe.relations), probe.expected_colength)
 
     started = time.perf_counter()
-    limit = {f.name: REFERENCE_COLENGTH_LIMIT if f.solved_by_points else GROEBNER_COLENGTH_LIMIT
-             for f in families}
-    by_groebner = [f for f in families if method in ("groebner", "both") or (
-        method == "auto" and reports[f.name].expected_colength <= limit[f.name])]
-    for family in families:
-        if family not in by_groebner and method == "auto":
-            reports[family.name].notes.append(
-                f"no Gröbner basis: expected colength {reports[family.name].expected_colength} "
-                f"is above the automatic limit {limit[family.name]} (use --method both)")
-    own, moved = groebner_reports(by_groebner, flag, residues, reports)
-    use_groebner = bool(by_groebner)
-    timings["groebner"] = time.perf_counter() - started
-
-    started = time.perf_counter()
     points_record = None
     if use_points:
         try:
@@ -314,6 +353,25 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
             for report in reports.values():
                 report.notes.append(f"Bethe points unavailable: {error}")
     timings["points"] = time.perf_counter() - started
+
+    started = time.perf_counter()
+    limit = {f.name: REFERENCE_COLENGTH_LIMIT if f.solved_by_points else GROEBNER_COLENGTH_LIMIT
+             for f in families}
+    by_groebner = [f for f in families if method in ("groebner", "both") or (
+        method == "auto" and reports[f.name].expected_colength <= limit[f.name])]
+    for family in families:
+        report = reports[family.name]
+        if family in by_groebner or (method == "auto" and not family.solved_by_points and
+                                     report.expected_colength <= CLASSICAL_COLENGTH_LIMIT):
+            report.classical_colength, report.classical_method = classical_colength(
+                family, flag, residues, bool(report.fixed_points_ok))
+        if family not in by_groebner and method == "auto":
+            report.notes.append(
+                f"no Gröbner basis at generic q: expected colength {report.expected_colength} "
+                f"is above the automatic limit {limit[family.name]} (use --method both)")
+    own, moved = groebner_reports(by_groebner, flag, residues, reports)
+    use_groebner = any(r.classical_colength is not None for r in reports.values())
+    timings["groebner"] = time.perf_counter() - started
     for family in families:
         decide_completeness(reports[family.name], family)
 
@@ -341,7 +399,6 @@ def groebner_reports(families: Sequence[Family], flag: FlagType,
         report = reports[family.name]
         own[family.name] = own_ideal(family, flag, residues)
         report.colength = own[family.name].colength
-        report.classical_colength = own_ideal(family, flag, classical(residues)).colength
         moved[family.name] = transported_ideal(family, flag, residues, common, own[family.name])
         if moved[family.name] is not None and not moved[family.name].faithful:
             report.notes.append(
