@@ -109,7 +109,9 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
     from presentations import get_family
     from presentations.flagtype import parse_flag
     from presentations.interface import build_symbolic
-    from reports.formulas import formula
+    import sympy
+    from reports.formulas import formula, to_sympy
+    from reports.tables import generator_latex
 
     flag = parse_flag(result["case"])
     out: Dict[str, Dict[str, dict]] = {}
@@ -122,8 +124,12 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
                 continue
         presentation = build_symbolic(family, flag, equivariant=result["equivariant"])
         names = presentation.ring.ctx.names()
+        # LaTeX shows generators by their meaning (λ_j(S_i), …), plain text by their names.
+        symbol_latex = {sympy.Symbol(g.name): generator_latex(g)
+                        for g in presentation.generators}
         out[name] = {r.label: {"text": formula(r.poly, names) + " = 0",
-                               "latex": formula(r.poly, names, latex=True) + " = 0"}
+                               "latex": sympy.latex(to_sympy(r.poly, names),
+                                                    symbol_names=symbol_latex) + " = 0"}
                      for r in presentation.relations if r.label in labels}
     return out
 

@@ -226,3 +226,30 @@ def test_cli_table_errors(tmp_path, results_file, make, args, fragment):
     assert run.returncode == 2
     assert len(run.stderr.strip().splitlines()) == 1 and fragment in run.stderr
     assert "Traceback" not in run.stderr
+
+
+def test_notebook_records_render_without_ipython(rows):
+    from reports.notebook import check_view, relations_view, results_view
+    view = results_view(rows, columns=["case", "verdict"], group_by_n=True)
+    page = view._repr_html_()
+    assert page.count("<tr>") == 1 + 2 + 1 + 1    # two n-blocks: headers and three cases
+    assert "<td>disagree</td>" in page and "<h4>n = 4</h4>" in page
+    assert r"\begin{tabular}" in view._repr_latex_()
+    assert "[^reproduce]" in view._repr_markdown_()
+
+    disagreement = check_view(rows[1]["result"])
+    assert "whitney-sign-error" in disagreement._repr_html_()
+    latex = disagreement._repr_latex_()
+    assert latex.startswith("$$") and "level 2, $y^{2}$" in latex
+    # the slipped sign: + λ_1(Q_2) λ_1(S_1) q_2 (the published relation has −)
+    assert r"\lambda_{1}(Q_{2}) \lambda_{1}(S_{1}) q_{2}" in latex and "Q_{2 1}" not in latex
+    assert check_view(rows[0]["result"])._repr_latex_() is None   # nothing failed
+
+    relations = relations_view("whitney", "P2")._repr_latex_()
+    assert relations.startswith(r"$$\begin{aligned}") and relations.count(r"\text{[level") == 3
+
+    probe = subprocess.run([sys.executable, "-c", "import sys, reports.notebook, "
+                            "reports.tables, reports.frames, reports.figures; "
+                            "print('IPython' in sys.modules, 'matplotlib' in sys.modules)"],
+                           capture_output=True, text=True, timeout=60)
+    assert probe.stdout.split() == ["False", "False"], probe.stderr
