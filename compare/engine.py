@@ -141,29 +141,18 @@ def own_ideal(family: Family, flag: FlagType, spec: algebra.Specialisation) -> I
                  groebner.colength(basis))
 
 
-def _unit_factors(units: Sequence) -> list:
-    factors = []
+def without_unit_factors(poly, units: Sequence):
+    """The polynomial with every factor it shares with a unit divided out; it generates the
+    same ideal once the units are inverted.  (Common factors by gcd and exact division:
+    python-flint's multivariate factorisation fails for primes near 2^62.)"""
     for unit in units:
-        for factor, _ in unit.factor()[1]:
-            factor = factor * pow(int(factor.leading_coefficient()), -1,
-                                  factor.context().modulus())
-            if factor not in factors:
-                factors.append(factor)
-    return factors
-
-
-def without_unit_factors(poly, unit_factors: Sequence):
-    """The polynomial with every irreducible factor that divides a unit removed; it
-    generates the same ideal once the units are inverted."""
-    if poly.is_zero():
-        return poly
-    constant, factors = poly.factor()
-    kept = poly.context().constant(1)
-    for factor, power in factors:
-        monic = factor * pow(int(factor.leading_coefficient()), -1, factor.context().modulus())
-        if monic not in unit_factors:
-            kept = kept * factor ** power
-    return kept
+        while not poly.is_zero():
+            common = poly.gcd(unit)
+            if common.is_constant():
+                break
+            poly, remainder = divmod(poly, common)
+            assert remainder.is_zero()
+    return poly
 
 
 def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisation,
@@ -176,8 +165,8 @@ def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisat
     localised one, so an upper bound — settle it whenever that bound is the rank."""
     presentation = build_specialised(family, flag, classical(spec))
     if presentation.units and fixed_points_ok:
-        factors = _unit_factors(presentation.units)
-        stripped = [without_unit_factors(r.poly, factors) for r in presentation.relations]
+        stripped = [without_unit_factors(r.poly, presentation.units)
+                    for r in presentation.relations]
         bound = groebner.colength(groebner.groebner_basis(stripped))
         if bound == flag.rank:
             return bound, ("Gröbner basis of the relations without unit factors (upper bound) "
