@@ -36,7 +36,7 @@ import flint
 
 from presentations.flagtype import FixedPoint, FlagType
 from presentations.interface import Family, Generator, Presentation, build_series
-from presentations.meanings import Meaning
+from presentations.meanings import Meaning, meaning_problem
 
 from . import algebra
 from . import series as ps
@@ -617,20 +617,6 @@ class _PointClasses:
         if kind == "root":
             return self.point.roots[i - 1][j - 1]
         raise ValueError(f"no value for meaning {meaning}")
-
-
-def meaning_problem(meaning: Meaning, flag: FlagType) -> Optional[str]:
-    """Why a meaning makes no sense for this flag type, or None."""
-    i, j, kind = meaning.level, meaning.index, meaning.kind
-    top = flag.m + 1 if kind == "toda_L" else flag.m
-    if not 1 <= i <= top:
-        return f"{meaning.text}: level {i} outside 1…{top}"
-    if kind == "toda_L":
-        return None
-    bound = flag.k(i) if kind in ("lambda_S", "root") else flag.d(i)
-    if not 1 <= j <= bound:
-        return f"{meaning.text}: index {j} outside 1…{bound}"
-    return None
 
 
 def generator_values(points: BethePoints, generators: Sequence[Generator]) -> List[Dict[str, Series]]:

@@ -82,15 +82,15 @@ def lambda_Q_name(i: int, j: int) -> str:
     return f"Q{i}_{j}"
 
 
-def meaning_is_valid(meaning: Meaning, flag: FlagType) -> Optional[str]:
-    """None if the meaning makes sense for this flag type, else why not."""
-    i, j = meaning.level, meaning.index
-    if meaning.kind == "toda_L":
-        return None if 1 <= i <= flag.n and flag.is_complete else \
-            f"{meaning.text} needs a complete flag and 1 ≤ i ≤ n"
-    if not 1 <= i <= flag.m:
-        return f"{meaning.text}: level {i} is not among 1…{flag.m}"
-    bound = flag.d(i) if meaning.kind in ("lambda_Q", "vieta_aux") else flag.k(i)
+def meaning_problem(meaning: Meaning, flag: FlagType) -> Optional[str]:
+    """Why a meaning makes no sense for this flag type, or None."""
+    i, j, kind = meaning.level, meaning.index, meaning.kind
+    top = flag.m + 1 if kind == "toda_L" else flag.m
+    if not 1 <= i <= top:
+        return f"{meaning.text}: level {i} outside 1…{top}"
+    if kind == "toda_L":
+        return None
+    bound = flag.k(i) if kind in ("lambda_S", "root") else flag.d(i)
     if not 1 <= j <= bound:
-        return f"{meaning.text}: index {j} is not among 1…{bound}"
+        return f"{meaning.text}: index {j} outside 1…{bound}"
     return None
