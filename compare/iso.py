@@ -286,28 +286,38 @@ class _SearchData:
     order: int
     prime: int
     cache: Dict = field(default_factory=dict)
+    # candidate monomials in search order, grown one degree at a time and shared by targets
+    pool: List[Tuple[int, ...]] = field(default_factory=list)
+    pool_zero: List[List[int]] = field(default_factory=list)     # their values at s = 0
+    degree_starts: List[int] = field(default_factory=list)
+    ranks: List[int] = field(default_factory=list)                # rank of the pool up to each degree
 
 
 def _monomials_of_degree(degree: int, variables: int) -> List[Tuple[int, ...]]:
     return sorted(reconstruct.exponents_of_degree(degree, variables), reverse=True)
 
 
-def _spanning_degree(data: _SearchData, cap: Optional[int]) -> Tuple[int, int]:
-    """(D, rank): the least D where the monomials of degree ≤ D span all functions on the
-    points at s = 0, or where their span stops growing (then the generators do not separate
-    the points), or `cap`."""
-    g, p = len(data.source_degrees), data.prime
-    rank, columns, D = 0, [], 0
-    everything = len(data.source_values)
+def _grow_pool(data: _SearchData, degree: int) -> None:
+    """Extend the pool by all monomials up to `degree`; each value at s = 0 is an earlier
+    monomial's times one generator's."""
+    p = data.prime
+    generators = len(data.source_degrees)
     at_zero = [[int(x[0]) for x in point] for point in data.source_values]
-    while True:
-        new = [[reconstruct.monomial_value(point, e, p) for point in at_zero]
-               for e in _monomials_of_degree(D, g)]
-        columns += new
-        previous, rank = rank, _scalar_matrix(columns, p).rank()
-        if rank == everything or (cap is not None and D >= cap) or (D > 0 and rank == previous):
-            return D, rank
-        D += 1
+    known = dict(zip(data.pool, data.pool_zero))
+    while len(data.degree_starts) <= degree:
+        d = len(data.degree_starts)
+        data.degree_starts.append(len(data.pool))
+        for e in _monomials_of_degree(d, generators):
+            if d == 0:
+                column = [1] * len(at_zero)
+            else:
+                g = next(i for i, a in enumerate(e) if a)
+                parent = known[e[:g] + (e[g] - 1,) + e[g + 1:]]
+                column = [x * point[g] % p for x, point in zip(parent, at_zero)]
+            known[e] = column
+            data.pool.append(e)
+            data.pool_zero.append(column)
+        data.ranks.append(_scalar_matrix(data.pool_zero, p).rank())
 
 
 def _accept(data: _SearchData, monomials, target_index: int, how: str, degree: int
@@ -332,52 +342,65 @@ def _accept(data: _SearchData, monomials, target_index: int, how: str, degree: i
     return _Support("", tuple(kept_monomials), tuple(forms), how, degree)
 
 
-def _express(data: _SearchData, target_index: int, top_degree: int, bounds: Bounds
-             ) -> Optional[_Support]:
+def _try_degree(data: _SearchData, target_index: int, degree: int, bounds: Bounds
+                ) -> Optional[_Support]:
+    """Sparsest supports reaching this degree, then the greedy basis of the pool."""
     p = data.prime
-    g = len(data.source_degrees)
-    at_zero_points = [[int(x[0]) for x in point] for point in data.source_values]
     target_zero = [int(point[target_index][0]) for point in data.target_values]
-    pool: List[Tuple[int, ...]] = []
-    pool_zero: List[List[int]] = []
-    for degree in range(top_degree + 1):
-        start = len(pool)
-        for e in _monomials_of_degree(degree, g):
-            pool.append(e)
-            pool_zero.append([reconstruct.monomial_value(pt, e, p) for pt in at_zero_points])
-        rank = _scalar_matrix(pool_zero, p).rank()
-        if _scalar_matrix(pool_zero + [target_zero], p).rank() > rank:
-            continue                      # not reachable at this degree even at q = 0
-        tried = 0
-        sizes = range(1, min(bounds.max_terms, len(pool)) + 1)
-        for combo in reconstruct.subsets_by_size(len(pool), sizes, start):
-            tried += 1
-            if tried > bounds.search_budget:
-                break
-            matrix = _scalar_matrix([pool_zero[i] for i in combo] + [target_zero], p)
-            if _pivot_columns(matrix) != list(range(len(combo))):
-                continue
-            support = _accept(data, [pool[i] for i in combo], target_index, "sparsest", degree)
-            if support is not None:
-                return support
-        basis = _pivot_columns(_scalar_matrix(pool_zero, p))
-        support = _accept(data, [pool[i] for i in basis], target_index, "normal form", degree)
+    end = data.degree_starts[degree + 1] if degree + 1 < len(data.degree_starts) else len(data.pool)
+    pool_zero = data.pool_zero[:end]
+    if _scalar_matrix(pool_zero + [target_zero], p).rank() > data.ranks[degree]:
+        return None                       # not reachable at this degree even at q = 0
+    sizes = range(1, min(bounds.max_terms, end) + 1)
+    for tried, combo in enumerate(reconstruct.subsets_by_size(end, sizes,
+                                                              data.degree_starts[degree])):
+        if tried >= bounds.search_budget:
+            break
+        matrix = _scalar_matrix([pool_zero[i] for i in combo] + [target_zero], p)
+        if _pivot_columns(matrix) != list(range(len(combo))):
+            continue
+        support = _accept(data, [data.pool[i] for i in combo], target_index, "sparsest", degree)
         if support is not None:
             return support
-    return None
+    basis = _pivot_columns(_scalar_matrix(pool_zero, p))
+    return _accept(data, [data.pool[i] for i in basis], target_index, "normal form", degree)
+
+
+def _express(data: _SearchData, target_index: int, bounds: Bounds
+             ) -> Tuple[Optional[_Support], int]:
+    """The support found for one target and the last degree examined.
+
+    Degrees go up until the target is expressed, the bound is reached, the monomials span
+    every function on the points at s = 0 (a basis is then at hand: higher degrees add
+    nothing), or their span stops growing (then it never grows again: it is closed under
+    multiplication by the generators)."""
+    everything = len(data.source_values)
+    degree = 0
+    while True:
+        _grow_pool(data, degree)
+        support = _try_degree(data, target_index, degree, bounds)
+        if support is not None:
+            return support, degree
+        rank = data.ranks[degree]
+        if rank == everything or (degree > 0 and rank == data.ranks[degree - 1]) or \
+                (bounds.max_degree is not None and degree >= bounds.max_degree):
+            return None, degree
+        degree += 1
 
 
 def search_direction(direction: Direction, data: _SearchData, bounds: Bounds) -> None:
-    top, rank = _spanning_degree(data, bounds.max_degree)
-    direction.searched_degree = top
+    searched = 0
     for k, name in enumerate(direction.target_generators):
-        support = _express(data, k, top, bounds)
+        support, degree = _express(data, k, bounds)
+        searched = max(searched, degree)
+        direction.searched_degree = searched
         if support is None:
-            spans = "" if rank == len(data.source_values) else \
-                f" (monomials of degree ≤ {top} span only {rank} of the {len(data.source_values)} " \
+            rank, everything = data.ranks[degree], len(data.source_values)
+            spans = "" if rank == everything else \
+                f" (monomials of degree ≤ {degree} span only {rank} of the {everything} " \
                 "functions on the points at q = 0)"
             direction.failure = (f"{name} is not a combination of {direction.source} monomials of "
-                                 f"degree ≤ {top} with power-series coefficients of the form "
+                                 f"degree ≤ {degree} with power-series coefficients of the form "
                                  f"num/∏(1 − q_i)^E{spans}")
             return
         direction.supports.append(_Support(name, support.monomials, support.forms, support.how,
@@ -488,87 +511,113 @@ def _solve_coefficient(samples: Sequence[_Sample], d: int, k: int, term: int, fo
     return out
 
 
-def _samples_needed(directions: Sequence[Direction], n: int, m: int, bounds: Bounds) -> int:
-    need = 0
-    for direction in directions:
-        for support in direction.supports:
-            for form in support.forms:
-                E = _least_E(form, n) + bounds.t_pole_extra
-                need = max(need, max(len(c) for c in _unknowns(form, n, m, E)))
-    return need + SLACK
+def _sample_order(directions: Sequence[Direction], bounds: Bounds) -> int:
+    """Enough powers of s for every cleared numerator and a few to check that nothing
+    follows it: samples are lifted only this far (lifting cost grows with the order)."""
+    need = max((form.q_degree + sum(form.q_poles) for direction in directions
+                for support in direction.supports for form in support.forms), default=0)
+    return min(bounds.order, need + PADE_SLACK + 2)
 
 
-def _draw_samples(flag, generators, directions, count, order, seed, prime, bounds,
-                  notes: List[str]) -> List[_Sample]:
-    samples, attempt = [], 0
-    while len(samples) < count:
-        if attempt >= count + 20:
-            raise points.LiftError(f"only {len(samples)} usable samples in {attempt} draws mod {prime}")
-        sample_seed = (seed * 1_000_003 + attempt) % 2**63
-        attempt += 1
+@dataclass
+class _SamplePool:
+    """Samples at one prime, drawn on demand from one seed."""
+    flag: FlagType
+    generators: tuple
+    directions: Sequence[Direction]
+    order: int
+    seed: int
+    prime: int
+    samples: List[_Sample] = field(default_factory=list)
+    attempts: int = 0
+    notes: List[str] = field(default_factory=list)
+
+
+def _ensure_samples(pool: _SamplePool, count: int) -> None:
+    while len(pool.samples) < count:
+        if pool.attempts >= count + 20:
+            raise points.LiftError(f"only {len(pool.samples)} usable samples in "
+                                   f"{pool.attempts} draws mod {pool.prime}")
+        sample_seed = (pool.seed * 1_000_003 + pool.attempts) % 2**63
+        pool.attempts += 1
         try:
-            sample = _take_sample(flag, generators, directions, order, sample_seed, prime)
+            sample = _take_sample(pool.flag, pool.generators, pool.directions, pool.order,
+                                  sample_seed, pool.prime)
         except points.LiftError as error:
-            notes.append(f"sample seed {sample_seed} skipped: {error}")
+            pool.notes.append(f"sample seed {sample_seed} skipped: {error}")
             continue
         if sample is None:
-            notes.append(f"sample seed {sample_seed} skipped: a support is singular there")
+            pool.notes.append(f"sample seed {sample_seed} skipped: a support is singular there")
             continue
-        samples.append(sample)
-    return samples
+        pool.samples.append(sample)
+
+
+def _coefficient_residues(pool: _SamplePool, key: Tuple[int, int, int], form: _Form,
+                          candidates: Sequence[int], n: int, m: int, bounds: Bounds
+                          ) -> Optional[Tuple[int, Dict]]:
+    """(E, residues) for the least E among the candidates whose system is consistent."""
+    d, k, term = key
+    for E in candidates:
+        need = max(len(c) for c in _unknowns(form, n, m, E)) + SLACK
+        if need > bounds.max_samples:
+            return None
+        _ensure_samples(pool, need)
+        solved = _solve_coefficient(pool.samples, d, k, term, form, n, m, E, pool.order,
+                                    pool.prime)
+        if solved is not None:
+            return E, solved
+    return None
 
 
 def reconstruct_directions(flag: FlagType, generators, directions: Sequence[Direction],
                            bounds: Bounds, seed: int, primes: Sequence[int], certificate: dict
                            ) -> Optional[str]:
     """Fill `formulas` of every direction; returns the reason when it cannot."""
-    n, m, N = flag.n, flag.m, bounds.order
-    count = _samples_needed(directions, n, m, bounds)
-    if count > bounds.max_samples:
-        return (f"the interpolation needs {count} samples, more than the bound "
-                f"{bounds.max_samples}")
-    notes: List[str] = []
+    n, m = flag.n, flag.m
+    order = _sample_order(directions, bounds)
     residues_by_prime: List[Dict] = []
     chosen_E: Dict[Tuple[int, int, int], int] = {}
-    used_primes: List[int] = []
+    pools: List[_SamplePool] = []
     for index, prime in enumerate(primes[:bounds.max_primes]):
-        samples = _draw_samples(flag, generators, directions, count, N, seed + 7919 * index,
-                                prime, bounds, notes)
+        pool = _SamplePool(flag, generators, directions, order, seed + 7919 * index, prime)
+        pools.append(pool)
         residues: Dict[Tuple[int, int, int], Dict] = {}
         for d, direction in enumerate(directions):
             for k, support in enumerate(direction.supports):
                 for term, form in enumerate(support.forms):
                     key = (d, k, term)
+                    least = _least_E(form, n)
                     candidates = [chosen_E[key]] if key in chosen_E else \
-                        range(_least_E(form, n), _least_E(form, n) + bounds.t_pole_extra + 1)
-                    for E in candidates:
-                        solved = _solve_coefficient(samples, d, k, term, form, n, m, E, N, prime)
-                        if solved is not None:
-                            chosen_E[key] = E
-                            residues[key] = solved
-                            break
-                    else:
-                        return (f"the coefficient of {_monomial_text(support.monomials[term], direction.source_generators)} "
+                        range(least, least + bounds.t_pole_extra + 1)
+                    found = _coefficient_residues(pool, key, form, candidates, n, m, bounds)
+                    if found is None:
+                        return (f"the coefficient of "
+                                f"{_monomial_text(support.monomials[term], direction.source_generators)} "
                                 f"in {support.target} is not a symmetric Laurent polynomial in T "
-                                f"(1/e_n(T) up to power {_least_E(form, n) + bounds.t_pole_extra}) "
-                                f"times a polynomial in q of degree ≤ {form.q_degree} over "
-                                f"∏(1 − q_i)^{list(form.q_poles)} (mod {prime})")
+                                f"(1/e_n(T) up to power {least + bounds.t_pole_extra}) times a "
+                                f"polynomial in q of degree ≤ {form.q_degree} over "
+                                f"∏(1 − q_i)^{list(form.q_poles)} within {bounds.max_samples} "
+                                f"samples (mod {prime})")
+                    chosen_E[key], residues[key] = found
         residues_by_prime.append(residues)
-        used_primes.append(prime)
         if index == 0:
             continue
-        exact = _lift_to_rationals(residues_by_prime[:-1], used_primes[:-1])
+        used = [p.prime for p in pools]
+        exact = _lift_to_rationals(residues_by_prime[:-1], used[:-1])
         if exact is not None and _predicts(exact, residues, prime):
             _fill_formulas(directions, exact, chosen_E)
             certificate["reconstruction"] = {
-                "primes": used_primes, "samples_per_prime": count, "seed": seed,
-                "sample_seed_rule": "seed·1000003 + attempt, seed + 7919·(prime index)",
+                "primes": used, "samples_per_prime": [len(p.samples) for p in pools],
+                "sample_order": order, "seed": seed,
+                "sample_seed_rule": "(seed + 7919·prime index)·1000003 + attempt",
                 "height_bound": f"|numerator|, denominator ≤ √(∏ primes / 2) ≈ 2^"
-                                f"{_log2_bound(used_primes[:-1])}",
-                "confirmed_by_prime": prime, "notes": notes[:20]}
+                                f"{_log2_bound(used[:-1])} (from {len(used) - 1} prime(s); "
+                                f"the last prime confirms)",
+                "notes": [note for p in pools for note in p.notes][:20]}
             return None
-    return (f"rational reconstruction did not stabilise over {len(used_primes)} primes "
-            f"(height bound ≈ 2^{_log2_bound(used_primes[:-1])})")
+    used = [p.prime for p in pools]
+    return (f"rational reconstruction did not stabilise over {len(used)} primes "
+            f"(height bound ≈ 2^{_log2_bound(used[:-1])})")
 
 
 def _log2_bound(primes: Sequence[int]) -> int:

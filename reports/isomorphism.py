@@ -158,14 +158,15 @@ def as_text(result: IsoResult, *, latex: bool = False) -> str:
             lines.append(f"  (normal form in the standard monomials for {', '.join(normal)}; "
                          "sparsest support for the others)")
     bounds = result.bounds
-    degrees = {d.searched_degree for d in (result.forward, result.backward)
-               if d.searched_degree is not None}
-    lines += ["", "bounds: monomials of degree ≤ " +
-              (str(bounds["max_degree"]) if bounds["max_degree"] is not None else
-               "/".join(map(str, sorted(degrees))) + " (where they span)") +
-              f", sparsest supports up to {bounds['max_terms']} terms, order s^{bounds['order']}, "
-              f"1/e_n(T) up to {bounds['t_pole_extra']} power(s) beyond the least, "
-              f"up to {bounds['max_primes']} primes"]
+    if bounds["max_degree"] is not None:
+        degree_text = f"monomials of degree ≤ {bounds['max_degree']}"
+    else:
+        degree_text = (f"monomials searched degree by degree until found (reached "
+                       f"{result.forward.searched_degree} for the map, "
+                       f"{result.backward.searched_degree} for the inverse)")
+    lines += ["", f"bounds: {degree_text}; sparsest supports up to {bounds['max_terms']} terms; "
+                  f"order s^{bounds['order']}; 1/e_n(T) up to {bounds['t_pole_extra']} power(s) "
+                  f"beyond the least; up to {bounds['max_primes']} primes"]
     if result.checks:
         lines += ["checks:"] + [_check_line(c) for c in result.checks]
     certificate = result.certificate
@@ -174,7 +175,9 @@ def as_text(result: IsoResult, *, latex: bool = False) -> str:
                  f"{search.get('prime')}, order s^{search.get('order')}")
     rebuilt = certificate.get("reconstruction")
     if rebuilt:
-        lines.append(f"  reconstruction: {rebuilt['samples_per_prime']} samples per prime, primes "
-                     f"{', '.join(map(str, rebuilt['primes']))}; {rebuilt['height_bound']}")
+        samples = "/".join(map(str, rebuilt["samples_per_prime"]))
+        lines.append(f"  reconstruction: {samples} samples mod s^{rebuilt['sample_order']} at primes "
+                     f"{', '.join(map(str, rebuilt['primes']))}")
+        lines.append(f"  {rebuilt['height_bound']}")
     lines.append(f"  ({certificate.get('kind')}: random specialisations; --json for all of it)")
     return "\n".join(lines)
