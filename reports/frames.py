@@ -116,6 +116,8 @@ def _rows_from_store(path: Path) -> List[dict]:
         return list(load_results(path))
     except sqlite3.DatabaseError as error:
         raise SourceError(f"{path}: unreadable results store ({error})") from None
+    except ValueError as error:   # the store's own one-line errors (wrong schema, …)
+        raise SourceError(str(error)) from None
 
 
 def load_rows(source: Source) -> List[dict]:

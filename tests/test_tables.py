@@ -253,3 +253,53 @@ def test_notebook_records_render_without_ipython(rows):
                             "print('IPython' in sys.modules, 'matplotlib' in sys.modules)"],
                            capture_output=True, text=True, timeout=60)
     assert probe.stdout.split() == ["False", "False"], probe.stderr
+
+
+def test_through_a_real_store(rows, tmp_path):
+    """The store written by the sweeps (compare.store), read back by tables and frames."""
+    import inspect
+    store = pytest.importorskip("compare.store", reason="compare.store (the sweeps' results "
+                                "store) is not in this tree yet")
+    path = tmp_path / "runs.db"
+    conn = store.open_store(path)
+    for row in rows:
+        result = row["result"]
+        wanted = {"presentations": list(result["presentations"]),
+                  "equivariant": result["equivariant"],
+                  "seed": result["certificate"]["seed"], "prime": result["certificate"]["prime"],
+                  "order": result["certificate"]["order"],
+                  "trials": len(result["certificate"]["trials"]),
+                  "method": result["certificate"]["method"]}
+        parameters = inspect.signature(store.sweep_settings).parameters
+        try:
+            settings = store.sweep_settings(**{k: v for k, v in wanted.items()
+                                               if k in parameters})
+        except TypeError as error:
+            pytest.fail(f"compare.store.sweep_settings no longer takes the contract's "
+                        f"settings as keywords: {error}")
+        store.save_result(conn, settings, result, row["seconds"])
+    conn.close()
+    stored = load_rows(path)
+    assert [r["case"] for r in stored] == sorted([r["case"] for r in rows], key=lambda c: (
+        parse_flag(c).n, parse_flag(c).rank, parse_flag(c).dims))   # sweep order
+    frame = results_frame(path).set_index("case")
+    expected = results_frame(rows).set_index("case")
+    for column in ("rank", "verdict", "method", "prime", "seed", "trials", "kind"):
+        assert frame[column].to_dict() == expected[column].to_dict(), column
+    text = render(path, "csv", TableOptions(columns=("case", "verdict")))
+    assert "Fl(3),disagree" in text and "# primes:" in text
+    assert "# computed with: python" in text     # versions the store recorded per run
+    from reports.figures import agreement_map, stored_provenance
+    figure = agreement_map(path, tmp_path / "map.png", dpi=50, command="ringmatch figure runs.db")
+    assert "produced by: ringmatch figure runs.db" in stored_provenance(figure)
+
+
+def test_sqlite_file_that_is_not_a_store(tmp_path):
+    import sqlite3
+    pytest.importorskip("compare.store", reason="compare.store is not in this tree yet")
+    path = tmp_path / "other.db"
+    with sqlite3.connect(path) as conn:
+        conn.execute("CREATE TABLE results (x INTEGER)")
+    run = run_cli("table", str(path))
+    assert run.returncode == 2 and len(run.stderr.strip().splitlines()) == 1
+    assert "other.db" in run.stderr and "Traceback" not in run.stderr
