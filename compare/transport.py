@@ -24,6 +24,8 @@ from typing import Dict, List, Optional
 from presentations.flagtype import FlagType
 from presentations.interface import Presentation, Relation
 from presentations.meanings import Meaning, lambda_S_name
+from presentations.vieta import det_S
+from presentations.whitney import lambda_y_S
 
 from . import algebra
 
@@ -36,21 +38,9 @@ def common_ring(flag: FlagType, spec: algebra.Specialisation, extra=()) -> algeb
     return algebra.specialised_ring(common_generator_names(flag), spec, extra=extra)
 
 
-def _lambda_y_S(flag: FlagType, C: algebra.Ring, i: int) -> algebra.YPoly:
-    if i == 0:
-        return [C.one]
-    if i == flag.m + 1:
-        return algebra.elementary_symmetric(C.T, C.one)
-    return [C.one] + [C.gen[lambda_S_name(i, j)] for j in range(1, flag.k(i) + 1)]
-
-
-def det_S(flag: FlagType, C: algebra.Ring, i: int):
-    return _lambda_y_S(flag, C, i)[flag.k(i)]
-
-
 def _classical_quotient(flag: FlagType, C: algebra.Ring, i: int) -> algebra.YPoly:
     """λ_y(S_{i+1})/λ_y(S_i) to order y^{d_i}."""
-    return algebra.ypoly_divide_series(_lambda_y_S(flag, C, i + 1), _lambda_y_S(flag, C, i),
+    return algebra.ypoly_divide_series(lambda_y_S(flag, C, i + 1), lambda_y_S(flag, C, i),
                                        flag.d(i) + 1, C.zero)
 
 
