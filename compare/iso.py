@@ -58,6 +58,7 @@ points collide; no points to evaluate at).  Those end "inconclusive" with the re
 from __future__ import annotations
 
 import random
+import time
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Dict, List, Optional, Sequence, Tuple
@@ -164,6 +165,7 @@ class IsoResult:
     bounds: dict
     certificate: dict
     checks: List[dict] = field(default_factory=list)
+    timings: Dict[str, float] = field(default_factory=dict)   # CPU seconds per phase
 
 
 # ---------------------------------------------------------------------------------------
@@ -879,6 +881,7 @@ def _search_reconstruct_verify(result: IsoResult, flag: FlagType, families, gene
     source, target = families
     directions = (result.forward, result.backward)
     certificate = result.certificate
+    clock = time.process_time()
     first = _lift(flag, bounds.order, seed, primes[0])
     certificate["search"] = {"prime": primes[0], "seed": first.spec.seed,
                              "weights": list(first.spec.T), "q_line": list(first.spec.q_line),
@@ -895,8 +898,10 @@ def _search_reconstruct_verify(result: IsoResult, flag: FlagType, families, gene
                              f"{direction.failure}")
             return
 
+    clock = _lap(result, "search", clock)
     reason = reconstruct_directions(flag, generators, directions, bounds, seed, primes[:-1],
                                     certificate)
+    clock = _lap(result, "reconstruction", clock)
     if reason:
         result.reason = "inconclusive: a map exists mod p, but its exact coefficients were not " \
                         "reconstructed: " + reason
@@ -907,6 +912,7 @@ def _search_reconstruct_verify(result: IsoResult, flag: FlagType, families, gene
     at_points = verify_at_points(flag, generators, directions, bounds.order, fresh_seed,
                                  fresh_prime)
     result.checks.append(at_points)
+    clock = _lap(result, "verification at points", clock)
     if not at_points["passed"]:
         result.reason = "inconclusive: the reconstructed formulas fail at fresh Bethe points (" + \
                         at_points["detail"] + ")"
@@ -920,6 +926,7 @@ def _search_reconstruct_verify(result: IsoResult, flag: FlagType, families, gene
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=fresh_seed, prime=fresh_prime)
     algebraic = verify_by_groebner(flag, (source, target), directions, spec)
     result.checks.append(algebraic)
+    _lap(result, "verification by Gröbner bases", clock)
     if algebraic["passed"] is None:
         result.found, result.status = True, "found"
         result.reason = "found; verification inconclusive: " + algebraic["detail"]
@@ -932,6 +939,12 @@ def _search_reconstruct_verify(result: IsoResult, flag: FlagType, families, gene
         result.reason = ("no isomorphism within bounds: the only map compatible with the "
                          "generators' values at the Bethe points is not a ring isomorphism of "
                          "the presentations: " + algebraic["detail"])
+
+
+def _lap(result: IsoResult, phase: str, since: float) -> float:
+    now = time.process_time()
+    result.timings[phase] = now - since
+    return now
 
 
 def _bounds_text(bounds: Bounds, direction: Direction) -> str:

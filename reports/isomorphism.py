@@ -114,6 +114,7 @@ def as_json(result: IsoResult) -> dict:
         "bounds": dict(result.bounds, searched_degree={
             "map": result.forward.searched_degree, "inverse": result.backward.searched_degree}),
         "certificate": dict(result.certificate, checks=result.checks),
+        "timings": {phase: round(seconds, 3) for phase, seconds in result.timings.items()},
     }
 
 
