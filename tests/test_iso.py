@@ -199,6 +199,7 @@ def test_same_seed_same_answer():
     flag = parse_flag("Fl(1,2;4)")
     a = as_json(iso.find_isomorphism(flag, vieta.FAMILY, whitney.FAMILY, seed=26))
     b = as_json(iso.find_isomorphism(flag, vieta.FAMILY, whitney.FAMILY, seed=26))
+    a.pop("timings"), b.pop("timings")      # CPU times differ from run to run
     assert a == b
 
 
