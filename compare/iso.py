@@ -48,12 +48,23 @@ accepted once the reconstruction from k primes predicts the residues mod prime k
     and the same from A to B; (2) both round trips a ↦ a(b(a)) and b ↦ b(a(b)) are the
     identity modulo the ideals — so the two homomorphisms are mutually inverse.
   The verdict "verified" needs both; it is a probabilistic statement (one random
-  specialisation per check), recorded with everything needed to repeat it.
+  specialisation per check), recorded with everything needed to repeat it.  When the points
+  pass but the Gröbner check fails, the map found is the only one compatible with the
+  generators' values at the matched points (the solution on each support is unique), so the
+  answer is "none within bounds" and the failing relations are named.
 
-Not covered: presentations whose values at the points are not symmetric under permuting the
-weights (Chern-root generators x_a(S_i) are labelled by the order of the weights), whose
-coefficients have other denominators in q, or non-equivariant cases (T_j = 1 makes the fixed
-points collide; no points to evaluate at).  Those end "inconclusive" with the reason.
+Samples after the first are lifted only to the order their coefficients need (numerator
+degree + pole orders + a few checking coefficients), which is what makes them cheap.
+Above rank `GROEBNER_RANK_LIMIT` the Gröbner check is skipped: such a map is reported
+"found" but not "verified" (it still has to pass the fresh points).
+
+Limits, stated in every answer they produce: coefficients must be power series in q along
+the line (supports whose columns are dependent at q = 0 are skipped) of the form
+num/∏(1 − q_i)^{E_i}; a generator whose values are not symmetric under permuting the weights
+(a Chern root x_a(S_i), labelled by the order of the weights, is an algebraic function of q,
+not a rational one) therefore has no formula of this form, and the search says "none within
+bounds" for it.  Non-equivariant cases (T_j = 1) are out of reach: the fixed points collide
+and there are no points to evaluate at.
 """
 from __future__ import annotations
 
