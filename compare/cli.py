@@ -365,6 +365,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--latex", action="store_true", help="formulas in LaTeX")
     p.set_defaults(run=cmd_iso)
+
+    from . import demo, sweep
+    p = sub.add_parser("sweep", help="compare presentations on every flag type up to a size: "
+                                     "stored, resumable, parallel, first counterexample")
+    sweep.add_arguments(p, presentation_list=presentation_list, prime_argument=prime_argument,
+                        positive_int=positive_int)
+    p.set_defaults(run=sweep.command)
+
+    p = sub.add_parser("demo", help="an invented scenario: established presentations agree, "
+                                    "a conjecture's first counterexample is found and reported")
+    demo.add_arguments(p, positive_int=positive_int)
+    p.set_defaults(run=demo.command)
     return parser
 
 
@@ -389,4 +401,7 @@ def main(argv: Optional[List[str]] = None) -> int:
 
 
 if __name__ == "__main__":
-    sys.exit(main())
+    # Run as compare.cli, not as __main__: subcommands import `UsageError` from compare.cli,
+    # and under `python -m` a second copy of this module would not catch it.
+    from compare.cli import main as package_main
+    sys.exit(package_main())

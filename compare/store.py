@@ -1,0 +1,203 @@
+"""The results store of sweeps: one SQLite file, one row per (case, settings), full results.
+
+Public functions (reports read the store through them):
+
+* `open_store(path)`                         → sqlite3.Connection (schema created, WAL journal)
+* `sweep_settings(presentations, ...)`       → dict: what makes two results comparable
+* `settings_key(settings)`                   → str: the hash that identifies those settings
+* `finished_cases(conn, settings)`           → set of case names already stored for them
+* `save_result(conn, settings, result, seconds)` → None, one transaction
+* `load_results(path)`                       → every row as a dict, in sweep order
+
+A row is written in a single transaction after its case has finished, so a sweep killed at
+any moment (SIGKILL included) leaves every finished case stored and no half-written row:
+SQLite's journal rolls an interrupted transaction back when the file is next opened.
+"""
+from __future__ import annotations
+
+import datetime
+import hashlib
+import json
+import sqlite3
+import sys
+from pathlib import Path
+from typing import List, Optional, Sequence
+
+from presentations.flagtype import FlagType, parse_flag
+
+SCHEMA_VERSION = 1
+
+SCHEMA = """
+CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+CREATE TABLE IF NOT EXISTS results (
+    case_name     TEXT NOT NULL,
+    settings_key  TEXT NOT NULL,
+    n             INTEGER NOT NULL,
+    rank          INTEGER NOT NULL,
+    kind          TEXT NOT NULL,
+    dims          TEXT NOT NULL,
+    presentations TEXT NOT NULL,
+    verdict       TEXT NOT NULL,
+    reason        TEXT NOT NULL,
+    seconds       REAL NOT NULL,
+    settings      TEXT NOT NULL,
+    result        TEXT NOT NULL,
+    finished_at   TEXT NOT NULL,
+    run           TEXT NOT NULL,
+    PRIMARY KEY (case_name, settings_key)
+);
+"""
+
+
+class StoreError(sqlite3.DatabaseError):
+    """The file is not a results store this version can read, or cannot be opened."""
+
+
+def open_store(path) -> sqlite3.Connection:
+    folder = Path(path).parent
+    if not folder.is_dir():
+        raise StoreError(f"{path}: the folder {folder} does not exist")
+    try:
+        conn = sqlite3.connect(str(path), timeout=30)
+        conn.execute("PRAGMA journal_mode=WAL")
+        # FULL: a row reported as saved survives even a machine crash, not only SIGKILL.
+        conn.execute("PRAGMA synchronous=FULL")
+        with conn:
+            conn.executescript(SCHEMA)
+            conn.execute("INSERT OR IGNORE INTO meta VALUES ('schema_version', ?)",
+                         (str(SCHEMA_VERSION),))
+        version = conn.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
+    except sqlite3.DatabaseError as error:
+        raise StoreError(f"{path}: not a ringmatch results store ({error})") from None
+    if version is None or int(version[0]) != SCHEMA_VERSION:
+        conn.close()
+        raise StoreError(f"{path}: results store of schema version {version and version[0]}, "
+                         f"this ringmatch reads version {SCHEMA_VERSION}")
+    return conn
+
+
+# ---------------------------------------------------------------------------------------
+# Settings
+
+def presentation_record(name: str) -> dict:
+    """A presentation as the settings know it: built-in/plug-in names as such; files (paths
+    and shipped file names) with the SHA-256 of their content, so an edited file never
+    resumes from results of its earlier version."""
+    from presentations import FAMILIES, userfile
+    path = None
+    if userfile.looks_like_path(name):
+        path = Path(name)
+    elif name not in FAMILIES and name in userfile.shipped_files():
+        path = userfile.shipped_files()[name]
+    if path is None:
+        return {"name": name}
+    digest = hashlib.sha256(path.read_bytes()).hexdigest()
+    return {"name": name, "sha256": digest}
+
+
+def sweep_settings(presentations: Sequence, *, equivariant: bool = True, seed: int = 0,
+                   prime: Optional[int] = None, order: int = 6, trials: int = 1,
+                   method: str = "auto") -> dict:
+    """`presentations`: names or paths (strings), or records from `presentation_record`."""
+    from . import algebra
+    records = [p if isinstance(p, dict) else presentation_record(p) for p in presentations]
+    return {"presentations": records, "equivariant": bool(equivariant), "seed": int(seed),
+            "prime": int(prime if prime is not None else algebra.DEFAULT_PRIME),
+            "order": int(order), "trials": int(trials), "method": method}
+
+
+def settings_key(settings: dict) -> str:
+    # A file is identified by its content, not by the path it was reached through.
+    comparable = dict(settings)
+    comparable["presentations"] = [p.get("sha256", p["name"]) for p in settings["presentations"]]
+    text = json.dumps(comparable, sort_keys=True, separators=(",", ":"))
+    return hashlib.sha256(text.encode()).hexdigest()[:32]
+
+
+# ---------------------------------------------------------------------------------------
+# Rows
+
+def case_kind(flag: FlagType) -> str:
+    if flag.is_grassmannian:
+        return "grassmannian"
+    return "complete" if flag.is_complete else "partial"
+
+
+def run_record(command: Optional[str] = None) -> dict:
+    from importlib import metadata
+    versions = {"python": sys.version.split()[0]}
+    for package in ("ringmatch", "python-flint"):
+        try:
+            versions[package] = metadata.version(package)
+        except metadata.PackageNotFoundError:
+            versions[package] = None
+    return {"command": command if command is not None else " ".join(sys.argv),
+            "versions": versions}
+
+
+def finished_cases(conn: sqlite3.Connection, settings: dict) -> set:
+    rows = conn.execute("SELECT case_name FROM results WHERE settings_key = ?",
+                        (settings_key(settings),))
+    return {row[0] for row in rows}
+
+
+def stored_rows(conn: sqlite3.Connection, settings: dict) -> dict:
+    """{case name: row dict} for these settings."""
+    rows = conn.execute(f"SELECT {', '.join(COLUMNS)} FROM results WHERE settings_key = ?",
+                        (settings_key(settings),))
+    return {row[0]: _row_dict(row) for row in rows}
+
+
+def save_result(conn: sqlite3.Connection, settings: dict, result: dict, seconds: float, *,
+                run: Optional[dict] = None) -> None:
+    flag = parse_flag(result["case"])
+    names = [p["name"] for p in settings["presentations"]]
+    finished = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="microseconds")
+    values = (flag.name, settings_key(settings), flag.n, flag.rank, case_kind(flag),
+              json.dumps(list(flag.dims)), json.dumps(names), result["verdict"],
+              result["reason"], float(seconds), json.dumps(settings, sort_keys=True),
+              json.dumps(result), finished, json.dumps(run or run_record()))
+    with conn:   # one transaction: the row is there completely or not at all
+        conn.execute(f"INSERT OR REPLACE INTO results ({', '.join(COLUMNS)}) "
+                     f"VALUES ({', '.join('?' * len(COLUMNS))})", values)
+
+
+COLUMNS = ("case_name", "settings_key", "n", "rank", "kind", "dims", "presentations",
+           "verdict", "reason", "seconds", "settings", "result", "finished_at", "run")
+
+
+def _row_dict(row) -> dict:
+    record = dict(zip(COLUMNS, row))
+    return {"case": record["case_name"], "n": record["n"], "rank": record["rank"],
+            "kind": record["kind"], "dims": json.loads(record["dims"]),
+            "presentations": json.loads(record["presentations"]),
+            "verdict": record["verdict"], "reason": record["reason"],
+            "seconds": record["seconds"], "settings": json.loads(record["settings"]),
+            "settings_key": record["settings_key"], "result": json.loads(record["result"]),
+            "finished_at": record["finished_at"], "run": json.loads(record["run"])}
+
+
+def sweep_order(row: dict) -> tuple:
+    return (row["n"], row["rank"], tuple(row["dims"]))
+
+
+def load_results(path) -> List[dict]:
+    """Every stored row, in sweep order (n, then rank, then the dims tuple)."""
+    if not Path(path).is_file():
+        raise StoreError(f"{path}: no such results store")
+    # No schema is created here: a reader must never turn some other SQLite file into a
+    # store.  (Not mode=ro: a read-only reader of a WAL file leaves -wal/-shm files behind.)
+    conn = sqlite3.connect(str(path), timeout=30)
+    try:
+        tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+        if not {"meta", "results"} <= tables:
+            raise StoreError(f"{path}: an SQLite file, but not a ringmatch results store")
+        rows = [_row_dict(row) for row in conn.execute(
+            f"SELECT {', '.join(COLUMNS)} FROM results")]
+    except StoreError:
+        raise
+    except sqlite3.DatabaseError as error:
+        raise StoreError(f"{path}: not a ringmatch results store ({error})") from None
+    finally:
+        conn.close()
+    return sorted(rows, key=lambda row: (sweep_order(row), row["settings_key"]))

@@ -1,0 +1,826 @@
+"""Sweeps: one comparison for every flag type up to a given size, stored as each case ends.
+
+Order.  Cases run and are reported by n, then by rank, then by the dims tuple
+(`case_order`), so "the first counterexample" is the smallest case where the presentations
+disagree.  An explicit case list is put into the same order.
+
+Seeds.  Every case gets its own seed from the sweep seed and the case name (`case_seed`), so
+a case gives the same result whichever worker, process or cluster computes it and in
+whatever order; the certificate records both seeds.
+
+Workers.  Each case runs in a process of its own that the sweep can kill: past
+`--case-timeout` seconds, or when it runs out of the `--case-memory` allowance (an address-
+space limit set inside the process), the case is stored as inconclusive with a reason that
+starts "limit:", and the sweep goes on.  A fresh process per case also keeps one case's
+caches and memory from slowing the next.  With `--cluster`, cases run as Dask tasks; each
+task again runs its case in a child process with the same limits where the worker allows
+that, and the store stays on this machine.
+
+Resuming.  Finished cases are stored one transaction each (compare/store.py); a sweep run
+again with the same settings takes them from the store.  Rows stored as "error: …" are
+computed again; rows stored as "limit: …" are computed again only under different limits.
+"""
+from __future__ import annotations
+
+import hashlib
+import itertools
+import multiprocessing
+import os
+import resource
+import signal
+import sys
+import time
+from collections import Counter, deque
+from dataclasses import dataclass, field
+from functools import lru_cache
+from multiprocessing.connection import wait as wait_for
+from pathlib import Path
+from typing import Callable, Dict, List, Optional, Sequence, Tuple
+
+from presentations.flagtype import FlagType, parse_flag
+
+from . import store
+
+KINDS = ("grassmannian", "partial", "complete")
+MAX_SWEEP_N = 20
+DEFAULT_STORE = "ringmatch-sweeps.db"
+
+
+# ---------------------------------------------------------------------------------------
+# Cases
+
+def case_order(flag: FlagType) -> tuple:
+    return (flag.n, flag.rank, flag.dims)
+
+
+def flags_of_size(n: int) -> List[FlagType]:
+    return [FlagType(dims, n) for size in range(1, n)
+            for dims in itertools.combinations(range(1, n), size)]
+
+
+def enumerate_cases(kind: str, max_n: int, min_n: int = 2,
+                    max_rank: Optional[int] = None) -> List[FlagType]:
+    """All flag types of the kind with min_n ≤ n ≤ max_n (and rank ≤ max_rank), in sweep
+    order.  `partial` means every flag type; P^1 = Fl(2) counts as Grassmannian and as
+    complete."""
+    if kind not in KINDS:
+        raise ValueError(f"unknown kind {kind!r}; expected one of {', '.join(KINDS)}")
+    wanted = {"grassmannian": lambda f: f.is_grassmannian,
+              "complete": lambda f: f.is_complete,
+              "partial": lambda f: True}[kind]
+    flags = [f for n in range(max(min_n, 2), max_n + 1) for f in flags_of_size(n)
+             if wanted(f) and (max_rank is None or f.rank <= max_rank)]
+    return sorted(flags, key=case_order)
+
+
+def split_case_list(text: str) -> List[str]:
+    """Split at the semicolons outside parentheses: 'Gr(2;4);Fl(1,3;5)' has two items."""
+    items, depth, current = [], 0, []
+    for char in text:
+        depth += {"(": 1, ")": -1}.get(char, 0)
+        if char == ";" and depth <= 0:
+            items.append("".join(current))
+            current = []
+        else:
+            current.append(char)
+    items.append("".join(current))
+    return [item.strip() for item in items if item.strip()]
+
+
+def parse_case_list(text: str) -> List[FlagType]:
+    """'Gr(2,4);Fl(3)' → flag types in sweep order, each once (FlagTypeError if malformed)."""
+    return sorted({parse_flag(item) for item in split_case_list(text)}, key=case_order)
+
+
+def case_seed(sweep_seed: int, flag: FlagType) -> int:
+    digest = hashlib.sha256(f"{sweep_seed}:{flag.name}".encode()).digest()
+    return int.from_bytes(digest[:4], "big")
+
+
+# ---------------------------------------------------------------------------------------
+# Presentations travel as names or file contents, so a remote worker needs no shared disk
+
+@dataclass(frozen=True)
+class Source:
+    name: str                      # as the user gave it
+    raw: Optional[bytes] = None    # file content; None for built-in and plug-in families
+
+    def record(self) -> dict:
+        if self.raw is None:
+            return {"name": self.name}
+        return {"name": self.name, "sha256": hashlib.sha256(self.raw).hexdigest()}
+
+
+def load_sources(names: Sequence[str]) -> List[Source]:
+    from presentations import FAMILIES, userfile
+    sources = []
+    for name in names:
+        path = None
+        if userfile.looks_like_path(name):
+            path = Path(name)
+        elif name not in FAMILIES:
+            path = userfile.shipped_files().get(name)
+        if path is None:
+            sources.append(Source(name))
+            continue
+        try:
+            sources.append(Source(name, path.read_bytes()))
+        except OSError as error:
+            raise userfile.PresentationFileError(
+                f"cannot read the file: {error.strerror or error}", name) from None
+    return sources
+
+
+@lru_cache(maxsize=32)
+def family_of(source: Source):
+    from presentations import get_family
+    from presentations.userfile import family_from_spec
+    from presentations.userfile_container import read_bytes
+    if source.raw is None:
+        return get_family(source.name)
+    return family_from_spec(read_bytes(source.raw, source.name))
+
+
+def unsupported_reasons(flag: FlagType, sources: Sequence[Source]) -> List[str]:
+    reasons = []
+    for source in sources:
+        family = family_of(source)
+        reason = family.unsupported(flag)
+        if reason:
+            reasons.append(f"{family.name}: {reason}")
+    return reasons
+
+
+# ---------------------------------------------------------------------------------------
+# One case
+
+@dataclass(frozen=True)
+class Limits:
+    seconds: Optional[float] = None
+    memory_mib: Optional[int] = None
+
+    def record(self) -> dict:
+        return {"seconds": self.seconds, "memory_mib": self.memory_mib}
+
+
+@dataclass(frozen=True)
+class CaseTask:
+    case: str
+    sources: Tuple[Source, ...]
+    sweep_seed: int
+    prime: int
+    equivariant: bool
+    order: int
+    trials: int
+    method: str
+
+    @property
+    def flag(self) -> FlagType:
+        return parse_flag(self.case)
+
+    @property
+    def seed(self) -> int:
+        return case_seed(self.sweep_seed, self.flag)
+
+
+def run_case(task: CaseTask) -> dict:
+    """The `check --json` result of one case (compare.engine.check_case), seeds recorded."""
+    from .engine import check_case
+    families = [family_of(source) for source in task.sources]
+    result = check_case(task.flag, families, seed=task.seed, prime=task.prime,
+                        equivariant=task.equivariant, order=task.order, trials=task.trials,
+                        method=task.method)
+    result["certificate"]["sweep_seed"] = task.sweep_seed
+    return result
+
+
+def undecided_result(task: CaseTask, reason: str, limits: Limits) -> dict:
+    """A case that produced no comparison (limit, worker failure), in the shape of a
+    check result so that stores, tables and reports treat it like any other."""
+    flag = task.flag
+    return {"case": flag.name, "rank": flag.rank, "equivariant": task.equivariant,
+            "verdict": "inconclusive", "reason": reason,
+            "certificate": {"prime": task.prime, "seed": task.seed,
+                            "sweep_seed": task.sweep_seed, "order": task.order,
+                            "method": task.method, "trials": [], "exact": False,
+                            "kind": "not computed", "limits": limits.record()},
+            "presentations": {}, "pairs": [], "timings": {}}
+
+
+def _set_memory_limit(memory_mib: int) -> None:
+    # The allowance is on top of what the worker already maps (interpreter, FLINT, the
+    # forked parent), so the same --case-memory means the same on every machine.
+    try:
+        with open("/proc/self/statm") as handle:
+            base = int(handle.read().split()[0]) * os.sysconf("SC_PAGE_SIZE")
+    except (OSError, ValueError):
+        base = 0
+    limit = base + memory_mib * 1024 * 1024
+    resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
+
+
+def _silence_output() -> None:
+    # The sweep's stdout carries its report (e.g. --json); a worker must not write into it.
+    # FLINT prints its allocation failures to stdout before aborting, so redirect the file
+    # descriptors, not only sys.stdout.
+    devnull = os.open(os.devnull, os.O_WRONLY)
+    for fd in (1, 2):
+        try:
+            os.dup2(devnull, fd)
+        except OSError:
+            pass
+    os.close(devnull)
+
+
+def child_main(writer, task: CaseTask, memory_mib: Optional[int]) -> None:
+    from presentations.interface import PresentationError
+    from presentations.userfile import PresentationFileError
+    signal.signal(signal.SIGINT, signal.SIG_IGN)   # the parent handles Ctrl-C and kills us
+    _die_with_parent()
+    _silence_output()
+    if memory_mib:
+        _set_memory_limit(memory_mib)
+    try:
+        message = ("ok", run_case(task))
+    except MemoryError:
+        message = ("memory", None)
+    except (PresentationError, PresentationFileError) as error:
+        message = ("presentation", str(error))
+    except Exception as error:   # a bug must not stop the sweep; it is stored and retried
+        message = ("error", f"{type(error).__name__}: {error}")
+    try:
+        writer.send(message)
+    except MemoryError:
+        writer.send(("memory", None))
+    writer.close()
+
+
+def outcome_result(task: CaseTask, limits: Limits, message, exitcode) -> dict:
+    """The stored result for what a worker sent back (or for its death)."""
+    if message is not None and message[0] == "ok":
+        message[1]["certificate"]["limits"] = limits.record()
+        return message[1]
+    if message is not None and message[0] == "memory" or \
+            message is None and limits.memory_mib and exitcode not in (0, None):
+        reason = f"limit: out of memory under --case-memory {limits.memory_mib} MiB"
+        if message is None:
+            reason += f" (worker ended with {_exit_text(exitcode)})"
+        return undecided_result(task, reason, limits)
+    if message is not None and message[0] == "presentation":
+        return undecided_result(task, f"presentation error: {message[1]}", limits)
+    if message is not None:
+        return undecided_result(task, f"error: {message[1]}", limits)
+    return undecided_result(task, f"error: worker ended with {_exit_text(exitcode)} "
+                                  "without a result", limits)
+
+
+def _exit_text(exitcode) -> str:
+    if exitcode is not None and exitcode < 0:
+        try:
+            return f"signal {signal.Signals(-exitcode).name}"
+        except ValueError:
+            return f"signal {-exitcode}"
+    return f"exit status {exitcode}"
+
+
+def timeout_result(task: CaseTask, limits: Limits) -> dict:
+    return undecided_result(task, f"limit: took longer than --case-timeout {limits.seconds:g} s",
+                            limits)
+
+
+# ---------------------------------------------------------------------------------------
+# Worker processes
+
+@dataclass
+class Running:
+    index: int
+    task: CaseTask
+    process: object
+    reader: object
+    started: float
+    deadline: Optional[float]
+
+
+def start_case(context, index: int, task: CaseTask, limits: Limits) -> Running:
+    reader, writer = context.Pipe(duplex=False)
+    process = context.Process(target=child_main, args=(writer, task, limits.memory_mib),
+                              daemon=True)
+    started = time.monotonic()
+    process.start()
+    writer.close()
+    deadline = started + limits.seconds if limits.seconds else None
+    return Running(index, task, process, reader, started, deadline)
+
+
+def finish_case(running: Running, limits: Limits) -> Tuple[dict, float]:
+    """Read the worker's message (it is there, or the worker is gone) and reap it."""
+    message = None
+    try:
+        if running.reader.poll():
+            message = running.reader.recv()
+    except (EOFError, OSError):
+        message = None
+    running.process.join()
+    running.reader.close()
+    seconds = time.monotonic() - running.started
+    return outcome_result(running.task, limits, message, running.process.exitcode), seconds
+
+
+def kill_case(running: Running) -> float:
+    running.process.kill()
+    running.process.join()
+    running.reader.close()
+    return time.monotonic() - running.started
+
+
+def available_cores() -> int:
+    try:
+        return len(os.sched_getaffinity(0))
+    except AttributeError:
+        return os.cpu_count() or 1
+
+
+def _die_with_parent() -> None:
+    # A sweep killed with SIGKILL cannot kill its workers; on Linux the kernel does it.
+    try:
+        import ctypes
+        libc = ctypes.CDLL(None, use_errno=True)
+        PR_SET_PDEATHSIG = 1
+        libc.prctl(PR_SET_PDEATHSIG, signal.SIGKILL)
+    except (OSError, AttributeError):
+        pass
+
+
+# Imported once in the sweep's process so that forked workers start with them: otherwise
+# every case would pay for importing SymPy (used to print witnesses), about a second.
+PRELOAD = ("compare.engine", "reports.formulas", "reports.summary")
+
+
+def local_context():
+    # fork: a worker starts in milliseconds with everything imported.  The sweep's own
+    # process has no threads, so forking it is safe.
+    import importlib
+    methods = multiprocessing.get_all_start_methods()
+    if "fork" not in methods:
+        return multiprocessing.get_context("spawn")
+    for module in PRELOAD:
+        importlib.import_module(module)
+    return multiprocessing.get_context("fork")
+
+
+def run_local(tasks: Sequence[Tuple[int, CaseTask]], limits: Limits, workers: int,
+              finished: Callable[[int, dict, float], Optional[int]]) -> None:
+    """Run the tasks on `workers` processes.  `finished(index, result, seconds)` is called
+    as each case ends and returns a cutoff index (or None): cases after it are dropped,
+    running ones killed — how --stop-at-first stops without losing a smaller case."""
+    context = local_context()
+    pending = deque(tasks)
+    running: Dict[int, Running] = {}
+    cutoff: Optional[int] = None
+    try:
+        while pending or running:
+            while pending and len(running) < workers:
+                index, task = pending.popleft()
+                running[index] = start_case(context, index, task, limits)
+            deadlines = [r.deadline for r in running.values() if r.deadline is not None]
+            timeout = max(0.0, min(deadlines) - time.monotonic()) if deadlines else None
+            handles = [r.reader for r in running.values()] + \
+                [r.process.sentinel for r in running.values()]
+            ready = set(wait_for(handles, timeout))
+            now = time.monotonic()
+            for index, job in sorted(running.items()):
+                if job.reader in ready or job.process.sentinel in ready:
+                    result, seconds = finish_case(job, limits)
+                elif job.deadline is not None and now >= job.deadline:
+                    seconds = kill_case(job)
+                    result = timeout_result(job.task, limits)
+                else:
+                    continue
+                del running[index]
+                new_cutoff = finished(index, result, seconds)
+                if new_cutoff is not None:
+                    cutoff = new_cutoff if cutoff is None else min(cutoff, new_cutoff)
+            if cutoff is not None:
+                pending = deque(item for item in pending if item[0] < cutoff)
+                for index in [i for i in running if i > cutoff]:
+                    kill_case(running.pop(index))
+    finally:
+        for job in running.values():   # interrupted: leave no worker behind
+            kill_case(job)
+
+
+# ---------------------------------------------------------------------------------------
+# Dask
+
+def run_isolated(task: CaseTask, limits: Limits) -> Tuple[dict, float]:
+    """One case in a killable child process with the limits (a Dask task's body).  Inside a
+    daemonic worker process, which may not have children, the case runs in the task itself
+    and the limits are those of the cluster; the certificate says so."""
+    if multiprocessing.current_process().daemon:
+        started = time.monotonic()
+        try:
+            result = run_case(task)
+        except MemoryError:
+            return undecided_result(task, "limit: out of memory in the Dask worker",
+                                    limits), time.monotonic() - started
+        result["certificate"]["limits"] = dict(
+            limits.record(), enforced="by the cluster (daemonic Dask worker)")
+        return result, time.monotonic() - started
+    # forkserver, not fork: Dask runs tasks in threads, and forking a threaded process is
+    # unsafe; the server process is started once and forks cleanly.
+    context = multiprocessing.get_context("forkserver")
+    context.set_forkserver_preload(["compare.sweep", *PRELOAD])
+    job = start_case(context, 0, task, limits)
+    remaining = None if job.deadline is None else max(0.0, job.deadline - time.monotonic())
+    if wait_for([job.reader, job.process.sentinel], remaining):
+        return finish_case(job, limits)
+    seconds = kill_case(job)
+    return timeout_result(task, limits), seconds
+
+
+def run_dask(address: str, tasks: Sequence[Tuple[int, CaseTask]], limits: Limits,
+             finished: Callable[[int, dict, float], Optional[int]], key_prefix: str) -> None:
+    from distributed import Client, as_completed
+    with Client(address, timeout="20s") as client:
+        futures = {client.submit(run_isolated, task, limits, pure=False,
+                                 key=f"ringmatch-{key_prefix}-{index}"): index
+                   for index, task in tasks}
+        cutoff = None
+        for future in as_completed(list(futures)):
+            index = futures[future]
+            if cutoff is not None and index > cutoff:
+                continue
+            result, seconds = future.result()
+            new_cutoff = finished(index, result, seconds)
+            if new_cutoff is not None:
+                cutoff = new_cutoff if cutoff is None else min(cutoff, new_cutoff)
+                for other, other_index in futures.items():
+                    if other_index > cutoff:
+                        other.cancel()
+
+
+# ---------------------------------------------------------------------------------------
+# The sweep
+
+@dataclass
+class SweepPlan:
+    flags: List[FlagType]                 # every case of the sweep, in order
+    skipped: List[Tuple[str, str]]        # (case, why) – a presentation has nothing for it
+    settings: dict
+    sources: List[Source]
+
+
+@dataclass
+class SweepOutcome:
+    plan: SweepPlan
+    results: Dict[str, dict] = field(default_factory=dict)     # case → check result
+    seconds: Dict[str, float] = field(default_factory=dict)
+    from_store: List[str] = field(default_factory=list)
+    computed: List[str] = field(default_factory=list)
+    not_run: List[str] = field(default_factory=list)           # after the first counterexample
+    wall: float = 0.0
+
+    def ordered_results(self) -> List[dict]:
+        return [self.results[f.name] for f in self.plan.flags if f.name in self.results]
+
+    @property
+    def first_counterexample(self) -> Optional[str]:
+        for flag in self.plan.flags:
+            result = self.results.get(flag.name)
+            if result is not None and result["verdict"] == "disagree":
+                return flag.name
+        return None
+
+    def counts(self) -> Dict[str, int]:
+        return dict(Counter(r["verdict"] for r in self.ordered_results()))
+
+
+def plan_sweep(flags: Sequence[FlagType], names: Sequence[str], *, seed: int, prime: int,
+               equivariant: bool, order: int, trials: int, method: str) -> SweepPlan:
+    sources = load_sources(names)
+    settings = store.sweep_settings([s.record() for s in sources], equivariant=equivariant,
+                                    seed=seed, prime=prime, order=order, trials=trials,
+                                    method=method)
+    kept, skipped = [], []
+    for flag in sorted(flags, key=case_order):
+        reasons = unsupported_reasons(flag, sources)
+        if reasons:
+            skipped.append((flag.name, "; ".join(reasons)))
+        else:
+            kept.append(flag)
+    return SweepPlan(kept, skipped, settings, sources)
+
+
+def needs_computing(row: dict, limits: Limits) -> bool:
+    reason = row["reason"]
+    if reason.startswith("error:"):
+        return True
+    if reason.startswith("limit:"):
+        return row["result"]["certificate"].get("limits") != limits.record()
+    return False
+
+
+def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits = Limits(),
+              stop_at_first: bool = False, cluster: Optional[str] = None,
+              progress: Optional[Callable[[int, int, float, str], None]] = None,
+              command: Optional[str] = None) -> SweepOutcome:
+    """Take finished cases from the store, compute the others, store each as it ends."""
+    settings = plan.settings
+    outcome = SweepOutcome(plan)
+    started = time.monotonic()
+    conn = store.open_store(store_path)
+    try:
+        stored = store.stored_rows(conn, settings)
+        todo: List[Tuple[int, CaseTask]] = []
+        for index, flag in enumerate(plan.flags):
+            row = stored.get(flag.name)
+            if row is not None and not needs_computing(row, limits):
+                outcome.results[flag.name] = row["result"]
+                outcome.seconds[flag.name] = row["seconds"]
+                outcome.from_store.append(flag.name)
+            else:
+                todo.append((index, task_for(flag, plan)))
+        cutoff = first_disagreement(plan, outcome) if stop_at_first else None
+        todo = [(i, t) for i, t in todo if cutoff is None or i < cutoff]
+        run = store.run_record(command)
+        total, done = len(todo), 0
+
+        def finished(index: int, result: dict, seconds: float) -> Optional[int]:
+            nonlocal done
+            store.save_result(conn, settings, result, seconds, run=run)
+            name = plan.flags[index].name
+            outcome.results[name] = result
+            outcome.seconds[name] = seconds
+            outcome.computed.append(name)
+            done += 1
+            if progress:
+                progress(done, total, time.monotonic() - started, name)
+            if stop_at_first and result["verdict"] == "disagree":
+                return index
+            return None
+
+        if progress and total:
+            progress(0, total, 0.0, "")
+        if todo:
+            if cluster:
+                run_dask(cluster, todo, limits, finished, store.settings_key(settings)[:12])
+            else:
+                run_local(todo, limits, max(1, workers), finished)
+    finally:
+        conn.close()
+    if stop_at_first and outcome.first_counterexample is not None:
+        last = plan.flags.index(parse_flag(outcome.first_counterexample))
+        for flag in plan.flags[last + 1:]:
+            outcome.results.pop(flag.name, None)   # beyond the first: not part of the answer
+            outcome.not_run.append(flag.name)
+    outcome.wall = time.monotonic() - started
+    return outcome
+
+
+def first_disagreement(plan: SweepPlan, outcome: SweepOutcome) -> Optional[int]:
+    for index, flag in enumerate(plan.flags):
+        result = outcome.results.get(flag.name)
+        if result is not None and result["verdict"] == "disagree":
+            return index
+    return None
+
+
+def task_for(flag: FlagType, plan: SweepPlan) -> CaseTask:
+    s = plan.settings
+    return CaseTask(flag.name, tuple(plan.sources), s["seed"], s["prime"], s["equivariant"],
+                    s["order"], s["trials"], s["method"])
+
+
+# ---------------------------------------------------------------------------------------
+# What the user sees
+
+def terminal_progress(stream=sys.stderr) -> Optional[Callable]:
+    """A one-line progress display on a terminal; None (quiet) otherwise."""
+    if not stream.isatty():
+        return None
+
+    def show(done: int, total: int, elapsed: float, last: str) -> None:
+        width = 24
+        filled = width * done // total if total else width
+        estimate = f", ~{_clock(elapsed / done * (total - done))} left" if done else ""
+        text = (f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} cases, "
+                f"{_clock(elapsed)} elapsed{estimate}" + (f"  {last}" if last else ""))
+        stream.write(text.ljust(100)[:120])
+        if done == total:
+            stream.write("\n")
+        stream.flush()
+    return show
+
+
+def _clock(seconds: float) -> str:
+    seconds = int(round(seconds))
+    return f"{seconds // 3600}:{seconds // 60 % 60:02d}:{seconds % 60:02d}" if seconds >= 3600 \
+        else f"{seconds // 60}:{seconds % 60:02d}"
+
+
+def table_rows(outcome: SweepOutcome) -> List[list]:
+    rows = []
+    for flag in outcome.plan.flags:
+        result = outcome.results.get(flag.name)
+        if result is None:
+            continue
+        rows.append([flag.name, flag.n, flag.rank, result["verdict"],
+                     f"{outcome.seconds.get(flag.name, 0.0):.2f}", result["reason"]])
+    return rows
+
+
+TABLE_HEADERS = ["case", "n", "rank", "verdict", "seconds", "reason"]
+
+
+def sweep_table(outcome: SweepOutcome, tablefmt: str = "simple") -> str:
+    from tabulate import tabulate
+    return tabulate(table_rows(outcome), headers=TABLE_HEADERS, tablefmt=tablefmt,
+                    disable_numparse=True)
+
+
+def witness_lines(result: dict) -> List[str]:
+    from reports.summary import witness_text
+    lines = [f"{pair['a']} vs {pair['b']}: {pair['reason']}"
+             for pair in result["pairs"] if pair["verdict"] == "disagree"]
+    for pair in result["pairs"]:
+        if pair["verdict"] == "disagree":
+            lines += ["  " + witness_text(pair, w) for w in pair["witnesses"]]
+    for name, report in result["presentations"].items():
+        if report.get("complete") is False and not any(
+                pair["verdict"] == "disagree" for pair in result["pairs"]):
+            lines.append(f"{name} does not present the ring (holds: {report.get('holds')}, "
+                         f"classical colength {report.get('classical_colength')}, expected "
+                         f"{report.get('expected_colength')})")
+    return lines
+
+
+def summary_text(outcome: SweepOutcome, *, store_path, cluster: Optional[str] = None,
+                 workers: int = 1) -> str:
+    plan = outcome.plan
+    names = ", ".join(p["name"] for p in plan.settings["presentations"])
+    where = f"Dask cluster {cluster}" if cluster else f"{workers} worker(s)"
+    lines = [f"sweep of {len(plan.flags)} case(s): {names}; store {store_path}",
+             f"{len(outcome.from_store)} from the store, {len(outcome.computed)} computed on "
+             f"{where} in {outcome.wall:.1f} s", ""]
+    if outcome.results:
+        lines += [sweep_table(outcome), ""]
+    counts = outcome.counts()
+    lines.append("counts: " + (", ".join(f"{v} {counts[v]}" for v in
+                                          ("agree", "disagree", "inconclusive") if v in counts)
+                               or "no cases"))
+    if plan.skipped:
+        lines.append(f"skipped {len(plan.skipped)} case(s) a presentation has nothing for: "
+                     + skipped_text(plan.skipped))
+    first = outcome.first_counterexample
+    lines.append(f"first counterexample: {first or 'none'}")
+    if first:
+        lines += ["  " + line for line in witness_lines(outcome.results[first])]
+    if outcome.not_run:
+        lines.append(f"not run after the first counterexample: {len(outcome.not_run)} case(s)")
+    return "\n".join(lines)
+
+
+def skipped_text(skipped: Sequence[Tuple[str, str]]) -> str:
+    by_reason: Dict[str, List[str]] = {}
+    for case, reason in skipped:
+        by_reason.setdefault(reason, []).append(case)
+    parts = []
+    for reason, cases in by_reason.items():
+        shown = ", ".join(cases[:6]) + (f", … ({len(cases)} in all)" if len(cases) > 6 else "")
+        parts.append(f"{shown} ({reason})")
+    return "; ".join(parts)
+
+
+def outcome_json(outcome: SweepOutcome, store_path) -> dict:
+    return {"cases": outcome.ordered_results(),
+            "first_counterexample": outcome.first_counterexample,
+            "counts": outcome.counts(),
+            "skipped": [{"case": c, "reason": r} for c, r in outcome.plan.skipped],
+            "not_run": list(outcome.not_run),
+            "from_store": list(outcome.from_store),
+            "settings": outcome.plan.settings,
+            "store": str(store_path)}
+
+
+# ---------------------------------------------------------------------------------------
+# Command line
+
+def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
+    from . import algebra
+    parser.add_argument("--max-n", type=positive_int, metavar="N",
+                        help="largest ambient dimension n")
+    parser.add_argument("--min-n", type=positive_int, default=2, metavar="N",
+                        help="smallest ambient dimension n; default 2")
+    parser.add_argument("--max-rank", type=positive_int, metavar="R",
+                        help="only flag types of rank (number of fixed points) ≤ R")
+    parser.add_argument("--kind", choices=KINDS,
+                        help="grassmannian, complete, or partial (= every flag type; default)")
+    parser.add_argument("--cases", metavar="'CASE;CASE;…'",
+                        help="explicit cases instead of --kind/--max-n, e.g. 'Gr(2,4);Fl(3)'")
+    parser.add_argument("--presentations", type=presentation_list,
+                        default=["whitney", "vieta"],
+                        help="comma-separated names or files; default whitney,vieta")
+    parser.add_argument("--store", default=DEFAULT_STORE, metavar="FILE",
+                        help=f"SQLite results store (resumed when run again); default "
+                             f"./{DEFAULT_STORE}")
+    parser.add_argument("--workers", type=positive_int, default=available_cores(),
+                        help="cases computed at once; default the number of cores")
+    parser.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
+                        help="a case running longer is stored as inconclusive (limit)")
+    parser.add_argument("--case-memory", type=positive_int, metavar="MiB",
+                        help="memory a case may allocate; beyond it, inconclusive (limit)")
+    parser.add_argument("--cluster", metavar="ADDRESS",
+                        help="run the cases on a Dask distributed cluster, e.g. "
+                             "tcp://127.0.0.1:8786 (the store stays here)")
+    parser.add_argument("--stop-at-first", action="store_true",
+                        help="stop at the smallest disagreeing case and print its witness")
+    parser.add_argument("--seed", type=int, default=0,
+                        help="sweep seed; each case's seed derives from it (default 0)")
+    parser.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
+    parser.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
+    parser.add_argument("--order", type=positive_int, default=6,
+                        help="truncation order N of the Bethe points")
+    parser.add_argument("--trials", type=positive_int, default=1)
+    parser.add_argument("--method", choices=["auto", "groebner", "points", "both"],
+                        default="auto")
+    parser.add_argument("--json", action="store_true",
+                        help="one JSON object at the end: cases, first_counterexample, counts")
+
+
+def _positive_float(text: str) -> float:
+    import argparse
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+    if not value > 0 or value == float("inf"):
+        raise argparse.ArgumentTypeError(f"{text} must be a positive number of seconds")
+    return value
+
+
+def flags_from_arguments(args) -> List[FlagType]:
+    from .cli import UsageError
+    if args.cases is not None:
+        if args.max_n is not None or args.kind is not None or args.min_n != 2 or \
+                args.max_rank is not None:
+            raise UsageError("--cases lists the cases itself; leave out --kind, --max-n, "
+                             "--min-n, --max-rank")
+        flags = parse_case_list(args.cases)
+        if not flags:
+            raise UsageError(f"--cases {args.cases!r}: no case in the list")
+        return flags
+    if args.max_n is None:
+        raise UsageError("say which cases: --max-n N (with --kind) or --cases 'CASE;…'")
+    if args.max_n > MAX_SWEEP_N:
+        raise UsageError(f"--max-n {args.max_n}: at most {MAX_SWEEP_N}")
+    if args.min_n > args.max_n:
+        raise UsageError(f"--min-n {args.min_n} is larger than --max-n {args.max_n}")
+    flags = enumerate_cases(args.kind or "partial", args.max_n, args.min_n, args.max_rank)
+    if not flags:
+        raise UsageError(f"no flag type with {args.min_n} ≤ n ≤ {args.max_n}"
+                         + (f" and rank ≤ {args.max_rank}" if args.max_rank else ""))
+    return flags
+
+
+def command(args) -> int:
+    import json
+    from .cli import UsageError
+    flags = flags_from_arguments(args)
+    largest = max(f.n for f in flags)
+    if not args.plain and args.prime - 2 < largest:
+        raise UsageError(f"--prime {args.prime} is too small for {largest} distinct weights")
+    if args.cluster:
+        try:
+            import distributed   # noqa: F401
+        except ImportError:
+            raise UsageError("--cluster needs Dask: pip install 'ringmatch[cluster]'") from None
+    plan = plan_sweep(flags, args.presentations, seed=args.seed, prime=args.prime,
+                      equivariant=not args.plain, order=args.order, trials=args.trials,
+                      method=args.method)
+    limits = Limits(args.case_timeout, args.case_memory)
+    try:
+        outcome = run_sweep(plan, args.store, workers=args.workers, limits=limits,
+                            stop_at_first=args.stop_at_first, cluster=args.cluster,
+                            progress=terminal_progress())
+    except store.StoreError as error:
+        raise UsageError(f"--store {error}") from None
+    except OSError as error:
+        raise UsageError(f"{error}") from None
+    except Exception as error:
+        if args.cluster and _is_connection_error(error):
+            raise UsageError(f"--cluster {args.cluster}: cannot use the cluster "
+                             f"({type(error).__name__}: {error})") from None
+        if type(error).__module__.startswith("sqlite3"):
+            raise UsageError(f"--store {args.store}: {error}") from None
+        raise
+    if args.json:
+        print(json.dumps(outcome_json(outcome, args.store), indent=2))
+    else:
+        print(summary_text(outcome, store_path=args.store, cluster=args.cluster,
+                           workers=args.workers))
+    return 0
+
+
+def _is_connection_error(error: Exception) -> bool:
+    return isinstance(error, (OSError, TimeoutError)) or \
+        type(error).__module__.startswith(("distributed", "tornado", "asyncio"))

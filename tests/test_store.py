@@ -1,0 +1,124 @@
+"""The results store of sweeps (compare/store.py): schema, keys, order, transactions."""
+import os
+import sqlite3
+import subprocess
+import sys
+import textwrap
+from pathlib import Path
+
+import pytest
+
+from compare import store
+from compare.engine import check_case
+from presentations import get_family
+from presentations.flagtype import parse_flag
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def real_result(case: str, names=("whitney", "vieta"), seed: int = 5) -> dict:
+    return check_case(parse_flag(case), [get_family(n) for n in names], seed=seed)
+
+
+@pytest.fixture(scope="module")
+def results():
+    return {case: real_result(case) for case in ("P1", "Fl(3)", "Gr(2;3)", "P2")}
+
+
+def test_open_store_creates_the_schema_in_wal_mode(tmp_path):
+    conn = store.open_store(tmp_path / "s.db")
+    assert conn.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
+    tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
+    assert {"meta", "results"} <= tables
+    conn.close()
+    store.open_store(tmp_path / "s.db").close()   # opening again keeps it
+
+
+def test_rows_come_back_in_sweep_order_with_the_contract_fields(tmp_path, results):
+    settings = store.sweep_settings(["whitney", "vieta"], seed=3)
+    conn = store.open_store(tmp_path / "s.db")
+    for case in ("P2", "Fl(3)", "P1", "Gr(2;3)"):      # saved out of order on purpose
+        store.save_result(conn, settings, results[case], 0.5, run=store.run_record("test"))
+    conn.close()
+    rows = store.load_results(tmp_path / "s.db")
+    # n, then rank (the number of fixed points), then the dims tuple
+    assert [r["case"] for r in rows] == ["P1", "P2", "Gr(2;3)", "Fl(3)"]
+    fl3 = rows[-1]
+    assert fl3["n"] == 3 and fl3["rank"] == 6 and fl3["dims"] == [1, 2]
+    assert fl3["kind"] == "complete" and rows[0]["kind"] == "grassmannian"
+    assert fl3["presentations"] == ["whitney", "vieta"]
+    assert fl3["verdict"] == results["Fl(3)"]["verdict"] == "agree"
+    assert fl3["result"] == results["Fl(3)"]
+    assert fl3["settings"] == settings and fl3["seconds"] == 0.5
+    assert fl3["run"]["command"] == "test" and "python-flint" in fl3["run"]["versions"]
+    assert fl3["finished_at"].startswith("20")
+
+
+def test_one_row_per_case_and_settings(tmp_path, results):
+    a = store.sweep_settings(["whitney", "vieta"], seed=3)
+    b = store.sweep_settings(["whitney", "vieta"], seed=4)
+    conn = store.open_store(tmp_path / "s.db")
+    store.save_result(conn, a, results["P1"], 1.0)
+    store.save_result(conn, a, results["P1"], 2.0)     # replaces, does not duplicate
+    store.save_result(conn, b, results["P1"], 3.0)
+    store.save_result(conn, b, results["P2"], 3.0)
+    assert store.finished_cases(conn, a) == {"P1"}
+    assert store.finished_cases(conn, b) == {"P1", "P2"}
+    conn.close()
+    assert len(store.load_results(tmp_path / "s.db")) == 3
+
+
+def test_settings_key_follows_file_content_not_path(tmp_path):
+    text = (ROOT / "presentations/files/qwhitney-family.toml").read_text()
+    first, second = tmp_path / "a.toml", tmp_path / "b.toml"
+    first.write_text(text)
+    second.write_text(text)
+    key = store.settings_key(store.sweep_settings(["whitney", str(first)]))
+    assert key == store.settings_key(store.sweep_settings(["whitney", str(second)]))
+    second.write_text(text + "\n# edited\n")
+    assert key != store.settings_key(store.sweep_settings(["whitney", str(second)]))
+    assert key != store.settings_key(store.sweep_settings(["whitney", str(first)], order=7))
+    shipped = store.sweep_settings(["whitney-sign-error"])["presentations"][0]
+    assert len(shipped["sha256"]) == 64
+
+
+def test_reading_a_foreign_sqlite_file_is_an_error_and_changes_nothing(tmp_path):
+    path = tmp_path / "other.db"
+    conn = sqlite3.connect(path)
+    conn.execute("CREATE TABLE t (x)")
+    conn.commit()
+    conn.close()
+    with pytest.raises(store.StoreError, match="not a ringmatch results store"):
+        store.load_results(path)
+    conn = sqlite3.connect(path)
+    assert [r[0] for r in conn.execute("SELECT name FROM sqlite_master")] == ["t"]
+    conn.close()
+    with pytest.raises(store.StoreError, match="does not exist"):
+        store.open_store(tmp_path / "missing-folder" / "s.db")
+
+
+def test_a_process_killed_inside_the_transaction_leaves_no_row(tmp_path, results):
+    """SIGKILL between the INSERT and the COMMIT: the row is not there afterwards."""
+    path = tmp_path / "s.db"
+    settings = store.sweep_settings(["whitney", "vieta"])
+    conn = store.open_store(path)
+    store.save_result(conn, settings, results["P1"], 1.0)
+    conn.close()
+    script = textwrap.dedent(f"""
+        import os, signal, json
+        from compare import store
+        conn = store.open_store({str(path)!r})
+        settings = store.sweep_settings(["whitney", "vieta"])
+        conn.execute("BEGIN")
+        conn.execute("INSERT INTO results (case_name, settings_key, n, rank, kind, dims, "
+                     "presentations, verdict, reason, seconds, settings, result, finished_at, run) "
+                     "VALUES ('P2', ?, 3, 3, 'grassmannian', '[1]', '[]', 'agree', '', 0, '{{}}', "
+                     "'{{}}', 'now', '{{}}')", (store.settings_key(settings),))
+        os.kill(os.getpid(), signal.SIGKILL)
+    """)
+    finished = subprocess.run([sys.executable, "-c", script], cwd=ROOT)
+    assert finished.returncode == -9
+    rows = store.load_results(path)
+    assert [r["case"] for r in rows] == ["P1"]
+    assert rows[0]["result"] == results["P1"]
+    os.remove(path)
