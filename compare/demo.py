@@ -83,6 +83,8 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
                             method="auto")
     confirmed = sweep.run_sweep(plan, confirm_store, workers=workers, progress=progress,
                                 command="ringmatch demo")
+    if progress:
+        progress.close()
     counts = confirmed.counts()
     say(f"  {len(plan.flags)} flag types in {confirmed.wall:.1f} s: "
         + ", ".join(f"{counts[v]} {v}" for v in ("agree", "disagree", "inconclusive")
@@ -99,6 +101,8 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
                             order=6, trials=1, method="auto")
     searched = sweep.run_sweep(plan, search_store, workers=workers, stop_at_first=True,
                                progress=progress, command="ringmatch demo")
+    if progress:
+        progress.close()
     first = searched.first_counterexample
     written = [write_table(confirm_store, folder / "established-table.md"),
                write_table(search_store, folder / "conjecture-table.md")]

@@ -1,8 +1,10 @@
 """Sweeps: one comparison for every flag type up to a given size, stored as each case ends.
 
-Order.  Cases run and are reported by n, then by rank, then by the dims tuple
+Order.  Cases are reported and stored by n, then by rank, then by the dims tuple
 (`case_order`), so "the first counterexample" is the smallest case where the presentations
-disagree.  An explicit case list is put into the same order.
+disagree.  An explicit case list is put into the same order.  With --stop-at-first cases also
+start in that order; otherwise the expensive ones start first (`schedule`), which shortens
+the tail of a parallel sweep.
 
 Seeds.  Every case gets its own seed from the sweep seed and the case name (`case_seed`), so
 a case gives the same result whichever worker, process or cluster computes it and in
@@ -445,12 +447,18 @@ def run_dask(address: str, tasks: Sequence[Tuple[int, CaseTask]], limits: Limits
         futures = {client.submit(run_isolated, task, limits, pure=False,
                                  key=f"ringmatch-{key_prefix}-{index}"): index
                    for index, task in tasks}
+        tasks_by_index = dict(tasks)
         cutoff = None
         for future in as_completed(list(futures)):
             index = futures[future]
             if cutoff is not None and index > cutoff:
                 continue
-            result, seconds = future.result()
+            try:
+                result, seconds = future.result()
+            except Exception as error:   # e.g. the worker died; stored, and retried next time
+                result, seconds = undecided_result(
+                    tasks_by_index[index], f"error: Dask task failed: "
+                    f"{type(error).__name__}: {error}", limits), 0.0
             new_cutoff = finished(index, result, seconds)
             if new_cutoff is not None:
                 cutoff = new_cutoff if cutoff is None else min(cutoff, new_cutoff)
@@ -541,7 +549,8 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
             else:
                 todo.append((index, task_for(flag, plan)))
         cutoff = first_disagreement(plan, outcome) if stop_at_first else None
-        todo = [(i, t) for i, t in todo if cutoff is None or i < cutoff]
+        todo = schedule([(i, t) for i, t in todo if cutoff is None or i < cutoff],
+                        stop_at_first)
         run = store.run_record(command)
         total, done = len(todo), 0
 
@@ -585,6 +594,24 @@ def first_disagreement(plan: SweepPlan, outcome: SweepOutcome) -> Optional[int]:
     return None
 
 
+def expected_cost(flag: FlagType) -> float:
+    """A rough guess of a case's time for scheduling: Gröbner bases, which dominate, grow
+    with the rank up to the automatic limit; above it a case goes by the Bethe points,
+    whose cost is linear in the rank and small (DESIGN.md §3)."""
+    from .engine import GROEBNER_COLENGTH_LIMIT
+    return float(flag.rank) if flag.rank <= GROEBNER_COLENGTH_LIMIT else flag.rank / 20.0
+
+
+def schedule(todo: List[Tuple[int, CaseTask]], stop_at_first: bool) -> List[Tuple[int, CaseTask]]:
+    """The order cases are started in.  Looking for the first counterexample: sweep order,
+    smallest first.  Otherwise the expensive cases first, so that the sweep does not end
+    with one worker busy on a big case while the others idle (results are still reported
+    and stored per case, in sweep order when read)."""
+    if stop_at_first:
+        return todo
+    return sorted(todo, key=lambda item: (-expected_cost(item[1].flag), item[0]))
+
+
 def task_for(flag: FlagType, plan: SweepPlan) -> CaseTask:
     s = plan.settings
     return CaseTask(flag.name, tuple(plan.sources), s["seed"], s["prime"], s["equivariant"],
@@ -594,22 +621,36 @@ def task_for(flag: FlagType, plan: SweepPlan) -> CaseTask:
 # ---------------------------------------------------------------------------------------
 # What the user sees
 
-def terminal_progress(stream=sys.stderr) -> Optional[Callable]:
-    """A one-line progress display on a terminal; None (quiet) otherwise."""
-    if not stream.isatty():
-        return None
+@dataclass
+class Progress:
+    """A one-line progress display: cases done/total, elapsed time, an estimate."""
+    stream: object
+    open_line: bool = False
 
-    def show(done: int, total: int, elapsed: float, last: str) -> None:
+    def __call__(self, done: int, total: int, elapsed: float, last: str) -> None:
         width = 24
         filled = width * done // total if total else width
         estimate = f", ~{_clock(elapsed / done * (total - done))} left" if done else ""
         text = (f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} cases, "
                 f"{_clock(elapsed)} elapsed{estimate}" + (f"  {last}" if last else ""))
-        stream.write(text.ljust(100)[:120])
-        if done == total:
-            stream.write("\n")
-        stream.flush()
-    return show
+        self.stream.write(text.ljust(100)[:120])
+        self.open_line = done < total
+        if not self.open_line:
+            self.stream.write("\n")
+        self.stream.flush()
+
+    def close(self) -> None:
+        """End the line when the sweep stopped early (first counterexample, interrupt)."""
+        if self.open_line:
+            self.stream.write("\n")
+            self.stream.flush()
+            self.open_line = False
+
+
+def terminal_progress(stream=None) -> Optional[Progress]:
+    """A progress display on a terminal; None (quiet) otherwise."""
+    stream = stream if stream is not None else sys.stderr
+    return Progress(stream) if stream.isatty() else None
 
 
 def _clock(seconds: float) -> str:
@@ -798,10 +839,11 @@ def command(args) -> int:
                       equivariant=not args.plain, order=args.order, trials=args.trials,
                       method=args.method)
     limits = Limits(args.case_timeout, args.case_memory)
+    progress = terminal_progress()
     try:
         outcome = run_sweep(plan, args.store, workers=args.workers, limits=limits,
                             stop_at_first=args.stop_at_first, cluster=args.cluster,
-                            progress=terminal_progress())
+                            progress=progress)
     except store.StoreError as error:
         raise UsageError(f"--store {error}") from None
     except OSError as error:
@@ -813,6 +855,9 @@ def command(args) -> int:
         if type(error).__module__.startswith("sqlite3"):
             raise UsageError(f"--store {args.store}: {error}") from None
         raise
+    finally:
+        if progress is not None:
+            progress.close()
     if args.json:
         print(json.dumps(outcome_json(outcome, args.store), indent=2))
     else:
