@@ -30,6 +30,7 @@ import multiprocessing
 import os
 import resource
 import signal
+import sqlite3
 import sys
 import time
 from collections import Counter, deque
@@ -846,13 +847,11 @@ def command(args) -> int:
                             progress=progress)
     except store.StoreError as error:
         raise UsageError(f"--store {error}") from None
-    except OSError as error:
-        raise UsageError(f"{error}") from None
     except Exception as error:
         if args.cluster and _is_connection_error(error):
             raise UsageError(f"--cluster {args.cluster}: cannot use the cluster "
                              f"({type(error).__name__}: {error})") from None
-        if type(error).__module__.startswith("sqlite3"):
+        if isinstance(error, (OSError, sqlite3.Error)):
             raise UsageError(f"--store {args.store}: {error}") from None
         raise
     finally:
