@@ -358,11 +358,15 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
             report.notes.append(
                 f"no Gröbner basis at generic q: expected colength {report.expected_colength} "
                 f"is above the automatic limit {limit[family.name]} (use --method both)")
-    own, moved = groebner_reports(by_groebner, flag, residues, reports)
-    use_groebner = any(r.classical_colength is not None for r in reports.values())
-    timings["groebner"] = time.perf_counter() - started
     for family in families:
         decide_completeness(reports[family.name], family)
+    # Two complete presentations present the same ring, so in the automatic mode the ideals
+    # are moved into the common ring only where the points leave something to explain.
+    with_transport = method in ("groebner", "both") or not all(
+        reports[f.name].complete for f in families)
+    own, moved = groebner_reports(by_groebner, flag, residues, reports, with_transport)
+    use_groebner = any(r.classical_colength is not None for r in reports.values())
+    timings["groebner"] = time.perf_counter() - started
 
     pairs = [compare_pair(families[x].name, families[y].name, own, moved, reports)
              for x in range(len(families)) for y in range(x + 1, len(families))]
@@ -376,18 +380,22 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
 
 
 def groebner_reports(families: Sequence[Family], flag: FlagType,
-                     residues: algebra.Specialisation, reports: Dict[str, PresentationReport]
+                     residues: algebra.Specialisation, reports: Dict[str, PresentationReport],
+                     with_transport: bool
                      ) -> Tuple[Dict[str, Ideal], Dict[str, Optional[Ideal]]]:
-    """Own and transported ideals of the given presentations; fills in the colengths."""
+    """Own (and, if asked, transported) ideals of the given presentations; fills in the
+    colengths."""
     own: Dict[str, Ideal] = {}
     moved: Dict[str, Optional[Ideal]] = {}
     if not families:
         return own, moved
-    common = common_setup(families, flag, residues)
+    common = common_setup(families, flag, residues) if with_transport else None
     for family in families:
         report = reports[family.name]
         own[family.name] = own_ideal(family, flag, residues)
         report.colength = own[family.name].colength
+        if not with_transport:
+            continue
         moved[family.name] = transported_ideal(family, flag, residues, common, own[family.name])
         if moved[family.name] is not None and not moved[family.name].faithful:
             report.notes.append(
