@@ -236,11 +236,13 @@ def cmd_table(args) -> int:
     words += ["--columns", args.columns] if args.columns else []
     words += ["--group-by-n"] if args.group_by_n else []
     words += ["--relations"] if args.relations else []
+    words += ["--isomorphisms"] if args.isomorphisms else []
     words += ["--standalone"] if args.standalone else []
     try:
         options = TableOptions(
             columns=parse_columns(args.columns) if args.columns else TableOptions.columns,
             group_by_n=args.group_by_n, relations=args.relations,
+            isomorphisms=args.isomorphisms,
             standalone=args.standalone, command=_output_command(words))
         text = render(args.store, args.format, options)
     except (SourceError, TableError) as error:
@@ -331,6 +333,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--group-by-n", action="store_true", help="one block of rows per n")
     p.add_argument("--relations", action="store_true",
                    help="LaTeX/Markdown: print the relations of cases of rank ≤ 6 in display math")
+    p.add_argument("--isomorphisms", action="store_true",
+                   help="LaTeX/Markdown: for cases of rank ≤ 6, search the change of generators "
+                        "between the first two presentations the search can take, at the "
+                        "check's seed, and print it in display math")
     p.add_argument("--standalone", action="store_true",
                    help="LaTeX: a complete document rather than a fragment for \\input")
     p.set_defaults(run=cmd_table)

@@ -1,15 +1,18 @@
 """Appendix tables of sweep results: LaTeX (booktabs; longtable when long), CSV, Markdown.
 
 One row per case.  Columns are chosen by key (`COLUMNS`); rows can be grouped by n; small
-cases can be followed by their relations in display math (LaTeX and Markdown).  Every
-table ends with the reproducibility block of `reports.provenance`.
+cases can be followed by their relations and by an explicit change of generators between two
+of their presentations (compare.iso, at a seed taken from the stored certificate), both in
+display math (LaTeX and Markdown).  Every table ends with the reproducibility block of
+`reports.provenance`, plus the seeds of the isomorphisms when there are any.
 """
 from __future__ import annotations
 
 import csv
 import io
 import re
-from dataclasses import dataclass, field
+import zlib
+from dataclasses import dataclass, field, replace
 from typing import Callable, Dict, List, Optional, Sequence, Tuple
 
 from . import provenance as prov
@@ -20,6 +23,8 @@ FORMATS = ("latex", "csv", "markdown")
 LONGTABLE_ROWS = 30
 # Relations are printed only for cases this small; larger ones fill pages with formulas.
 RELATIONS_MAX_RANK = 6
+# The same bound for isomorphisms: up to this rank a search takes about a second per case.
+ISOMORPHISMS_MAX_RANK = 6
 
 
 @dataclass(frozen=True)
@@ -78,6 +83,8 @@ class TableOptions:
     group_by_n: bool = False
     relations: bool = False               # print relations of cases up to relations_max_rank
     relations_max_rank: int = RELATIONS_MAX_RANK
+    isomorphisms: bool = False            # LaTeX/Markdown: change of generators of small cases
+    isomorphisms_max_rank: int = ISOMORPHISMS_MAX_RANK
     standalone: bool = False              # LaTeX: a whole document instead of a fragment
     command: Optional[str] = None         # for the reproducibility block
     caption: str = "Comparison of presentations, one row per case."
@@ -100,6 +107,7 @@ class Table:
     records: List[dict]
     rows: List[dict]                      # the store rows, for relations and provenance
     provenance: dict = field(default_factory=dict)
+    isomorphisms: List["CaseIsomorphism"] = field(default_factory=list)
 
 
 def build_table(source: Source, options: TableOptions = TableOptions()) -> Table:
@@ -115,7 +123,16 @@ def build_table(source: Source, options: TableOptions = TableOptions()) -> Table
             groups.append((n, [[c.value(r) for c in columns] for r in records if r["n"] == n]))
     else:
         groups.append((None, [[c.value(r) for c in columns] for r in records]))
-    return Table(columns, groups, records, rows, prov.provenance(rows, options.command))
+    table = Table(columns, groups, records, rows, prov.provenance(rows, options.command))
+    if options.isomorphisms:
+        searched = (case_isomorphism(row, options.isomorphisms_max_rank) for row in rows)
+        table.isomorphisms = [found for found in searched if found is not None]
+    return table
+
+
+def block_lines(table: Table) -> List[str]:
+    """The reproducibility block, with how each isomorphism was computed."""
+    return prov.provenance_lines(table.provenance) + isomorphism_block_lines(table.isomorphisms)
 
 
 # ---------------------------------------------------------------------------------------
@@ -169,7 +186,7 @@ def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
     caption = latex_escape(options.caption)
     lines = ["% ringmatch results table; needs \\usepackage{booktabs}"
              + (", \\usepackage{longtable}" if long else "")
-             + (", \\usepackage{amsmath}" if options.relations else "")]
+             + (", \\usepackage{amsmath}" if _display_math(options) else "")]
     if long:
         lines += [rf"\begin{{longtable}}{{{spec}}}", rf"\caption{{{caption}}}\\",
                   r"\toprule", header, r"\midrule", r"\endfirsthead",
@@ -182,11 +199,17 @@ def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
                   r"\bottomrule", r"\end{tabular}", r"\end{table}"]
     if options.relations:
         lines += relations_latex(table.rows, options.relations_max_rank)
-    lines += [f"% {line}" for line in prov.provenance_lines(table.provenance)]
+    if options.isomorphisms:
+        lines += isomorphisms_latex(table.isomorphisms)
+    lines += [f"% {line}" for line in block_lines(table)]
     text = "\n".join(lines) + "\n"
     if options.standalone:
-        return latex_document(text, long=long, relations=options.relations)
+        return latex_document(text, long=long, relations=_display_math(options))
     return text
+
+
+def _display_math(options: TableOptions) -> bool:
+    return options.relations or options.isomorphisms
 
 
 def latex_document(fragment: str, *, long: bool, relations: bool) -> str:
@@ -300,6 +323,185 @@ def relations_markdown(rows: Sequence[dict], max_rank: int) -> List[str]:
 
 
 # ---------------------------------------------------------------------------------------
+# Isomorphisms of small cases
+
+@dataclass
+class CaseIsomorphism:
+    """The change of generators printed for one case, or why there is none."""
+    case: str
+    skipped: List[Tuple[str, str]]        # (presentation, why the finder cannot use it)
+    pair: Optional[Tuple[str, str]] = None
+    seed: Optional[int] = None
+    seed_origin: str = ""                 # where the seed comes from, for the block
+    result: object = None                 # compare.iso.IsoResult
+    legend: List[Tuple[str, str]] = field(default_factory=list)   # (name, meaning), LaTeX
+    note: Optional[str] = None            # why nothing was computed
+
+
+def finder_problem(family, flag) -> Optional[str]:
+    """Why compare.iso cannot take this presentation's generators, or None."""
+    from compare import points
+    reason = family.unsupported(flag)
+    if reason:
+        return f"no presentation for {flag.name}: {reason}"
+    generators = family.generators(flag)
+    if any(g.meaning.kind == "root" for g in generators):
+        # compare/iso.py: a Chern root is not symmetric in the weights, so it has no formula
+        # with coefficients rational in T and q.
+        return "its generators are Chern roots, which have no formula of the form the finder " \
+               "looks for (coefficients rational in T and q)"
+    for g in generators:
+        problem = points.meaning_problem(g.meaning, flag)
+        if problem:
+            return f"generator {g.name}: {problem}"
+    return None
+
+
+def isomorphism_seed(row: dict) -> Tuple[int, str]:
+    """The seed of the check's first trial, so that the table is reproducible from the store;
+    a row without one gets a seed fixed by its case name."""
+    seed = ((row.get("result") or {}).get("certificate") or {}).get("seed")
+    if seed is not None:
+        return int(seed) % 2**32, "the check's seed"
+    return zlib.crc32(row["case"].encode()), "CRC-32 of the case name (no seed stored)"
+
+
+def case_isomorphism(row: dict, max_rank: int) -> Optional[CaseIsomorphism]:
+    """Search the first two presentations of a small case that the finder can take; None for
+    cases above max_rank or with fewer than two presentations."""
+    from compare.iso import IsoInputError, find_isomorphism
+    from presentations import get_family
+    from presentations.flagtype import parse_flag
+    from presentations.interface import PresentationError
+    flag = parse_flag(row["case"])
+    names = list(row["presentations"])
+    if flag.rank > max_rank or len(names) < 2:
+        return None
+    found = CaseIsomorphism(row["case"], [])
+    if not (row.get("result") or {}).get("equivariant", True):
+        found.note = "not equivariant: the fixed points collide when every T_j = 1, and the " \
+                     "finder evaluates at them"
+        return found
+    families = []
+    for name in names:
+        if len(families) == 2:
+            break
+        try:
+            family = get_family(name)
+            problem = finder_problem(family, flag)
+        except Exception as error:   # a file that moved, a plug-in not installed here
+            family, problem = None, f"presentation not available here ({error})"
+        if problem:
+            found.skipped.append((name, problem))
+        else:
+            families.append(family)
+    if len(families) < 2:
+        found.note = "fewer than two presentations the finder can take"
+        return found
+    source, target = families
+    found.pair = (source.name, target.name)
+    found.seed, found.seed_origin = isomorphism_seed(row)
+    try:
+        found.result = find_isomorphism(flag, source, target, seed=found.seed)
+    except (PresentationError, IsoInputError) as error:
+        found.note = f"the finder cannot compare {source.name} with {target.name}: {error}"
+        return found
+    meanings = {}
+    for family in families:
+        for g in family.generators(flag):
+            meanings.setdefault(g.name, generator_latex(g))
+    found.legend = sorted(meanings.items())
+    return found
+
+
+def _verdict(result) -> str:
+    if result.verified:
+        return "Found and verified (probabilistic: random specialisations)"
+    return "Found, not verified" if result.found else result.status.capitalize()
+
+
+def _formula_pairs(direction) -> List[Tuple[str, str]]:
+    """(target, formula) in the LaTeX of reports/isomorphism.py."""
+    from .isomorphism import _latex_name, formula_latex
+    return [(_latex_name(f.target), formula_latex(f, direction.source_generators))
+            for f in direction.formulas]
+
+
+def _directions(result):
+    return (("Map", result.forward), ("Inverse", result.backward))
+
+
+def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
+    from .isomorphism import _latex_name
+    lines: List[str] = []
+    for item in found:
+        lines += [f"% {item.case}: {name} skipped for the isomorphism: {latex_escape(why)}"
+                  for name, why in item.skipped]
+        if item.note:
+            lines.append(f"% {item.case}: no isomorphism printed: {latex_escape(item.note)}")
+            continue
+        result = item.result
+        title = f"{latex_escape(item.case)}, {latex_escape(item.pair[0])} $\\to$ " \
+                f"{latex_escape(item.pair[1])}"
+        lines += ["", rf"\paragraph{{Isomorphism {title}}}",
+                  latex_escape(f"{_verdict(result)}; seed {item.seed}.")]
+        if not result.found:
+            lines.append(latex_escape(result.reason))
+            continue
+        legend = ", ".join(f"${_latex_name(name)} = {meaning}$" for name, meaning in item.legend)
+        lines.append(f"Generators: {legend}.")
+        for title, direction in _directions(result):
+            lines += [latex_escape(f"{title} ({direction.target} generators in "
+                                   f"{direction.source} generators):"), r"\begin{align*}"]
+            lines += [f"  {target} &= {formula} \\\\" for target, formula in
+                      _formula_pairs(direction)]
+            lines[-1] = lines[-1].rstrip(" \\")
+            lines.append(r"\end{align*}")
+    return lines
+
+
+def isomorphisms_markdown(found: Sequence[CaseIsomorphism]) -> List[str]:
+    from .isomorphism import _latex_name
+    lines: List[str] = []
+    for item in found:
+        for name, why in item.skipped:
+            lines += ["", f"Note: {item.case}: {name} skipped for the isomorphism: {why}."]
+        if item.note:
+            lines += ["", f"Note: {item.case}: no isomorphism printed: {item.note}."]
+            continue
+        result = item.result
+        lines += ["", f"**Isomorphism {item.case}, {item.pair[0]} → {item.pair[1]}**: "
+                      f"{_verdict(result)}; seed {item.seed}."]
+        if not result.found:
+            lines += ["", result.reason]
+            continue
+        legend = ", ".join(f"${_latex_name(name)} = {meaning}$" for name, meaning in item.legend)
+        lines += ["", f"Generators: {legend}."]
+        for title, direction in _directions(result):
+            lines += ["", f"{title} ({direction.target} generators in {direction.source} "
+                          "generators):", ""]
+            for target, formula in _formula_pairs(direction):
+                lines += ["$$", f"{target} = {formula}", "$$", ""]
+    return lines
+
+
+def isomorphism_block_lines(found: Sequence[CaseIsomorphism]) -> List[str]:
+    computed = [item for item in found if item.result is not None]
+    if not computed:
+        return []
+    entries = []
+    for item in computed:
+        certificate = item.result.certificate
+        prime = (certificate.get("search") or {}).get("prime")
+        verdict = _verdict(item.result).lower()
+        entries.append(f"{item.case} {item.pair[0]}->{item.pair[1]} seed {item.seed} "
+                       f"({item.seed_origin}), search prime {prime}: {verdict}")
+    bounds = computed[0].result.bounds
+    return [f"isomorphisms computed with compare.iso.find_isomorphism (order s^{bounds['order']}, "
+            f"up to {bounds['max_terms']} terms): " + "; ".join(entries)]
+
+
+# ---------------------------------------------------------------------------------------
 # CSV and Markdown
 
 def csv_table(table: Table) -> str:
@@ -311,7 +513,7 @@ def csv_table(table: Table) -> str:
     for n, rows in table.groups:
         for row in rows:
             writer.writerow(([n] if grouped and "n" not in headings else []) + row)
-    for line in prov.provenance_lines(table.provenance):
+    for line in block_lines(table):
         out.write(f"# {line}\n")
     return out.getvalue()
 
@@ -336,13 +538,17 @@ def markdown_table(table: Table, options: TableOptions = TableOptions()) -> str:
     lines.insert(1, "")
     if options.relations:
         lines += relations_markdown(table.rows, options.relations_max_rank) + [""]
-    lines.append("[^reproduce]: " + "  \n    ".join(prov.provenance_lines(table.provenance)))
+    if options.isomorphisms:
+        lines += isomorphisms_markdown(table.isomorphisms) + [""]
+    lines.append("[^reproduce]: " + "  \n    ".join(block_lines(table)))
     return "\n".join(lines) + "\n"
 
 
 def render(source: Source, fmt: str, options: TableOptions = TableOptions()) -> str:
     if fmt not in FORMATS:
         raise TableError(f"unknown format {fmt!r}; choose from {', '.join(FORMATS)}")
+    if fmt == "csv":      # no display math in CSV: do not spend the searches
+        options = replace(options, isomorphisms=False)
     table = build_table(source, options)
     if fmt == "latex":
         return latex_table(table, options)

@@ -303,3 +303,121 @@ def test_sqlite_file_that_is_not_a_store(tmp_path):
     run = run_cli("table", str(path))
     assert run.returncode == 2 and len(run.stderr.strip().splitlines()) == 1
     assert "other.db" in run.stderr and "Traceback" not in run.stderr
+
+
+# ---------------------------------------------------------------------------------------
+# Isomorphisms of small cases (--isomorphisms)
+
+ISO_CASES = [("P2", ("bethe", "whitney", "vieta"), 21),    # bethe: Chern roots, skipped
+             ("Gr(2;4)", ("whitney", "vieta"), 22),
+             ("Fl(3)", ("whitney", "vieta"), 23),
+             ("Fl(1,2;4)", ("whitney", "vieta"), 24)]       # rank 12: above the bound
+
+
+@pytest.fixture(scope="module")
+def iso_store(tmp_path_factory):
+    """A sweeps' store (compare.store) holding real check results."""
+    store = pytest.importorskip("compare.store", reason="compare.store (the sweeps' results "
+                                "store) is not in this tree yet")
+    path = tmp_path_factory.mktemp("iso") / "runs.db"
+    conn = store.open_store(path)
+    for case, names, seed in ISO_CASES:
+        result = check_case(parse_flag(case), [get_family(n) for n in names], seed=seed,
+                            method="points")
+        settings = store.sweep_settings(list(names), seed=seed, method="points")
+        store.save_result(conn, settings, result, 0.1)
+    conn.close()
+    return path
+
+
+def change_of_variables(case):
+    """DESIGN.md §2.2 (derived there): λ_j(Q_i) = w_{i,j} for j < d_i and
+    det Q_i = (1 − q_i)·w_{i,d_i}; the λ_j(S_i) are shared.  As (target, formula) LaTeX
+    pairs for the inverse (Whitney generators in Vieta ones) and the map (Vieta in Whitney),
+    built here from the rule, not from the search."""
+    import sympy
+    flag = parse_flag(case)
+    names = {}
+    inverse, forward = {}, {}
+    for i in range(1, flag.m + 1):
+        q = sympy.Symbol(f"q{i}")
+        for j in range(1, flag.k(i) + 1):
+            S = sympy.Symbol(f"S{i}_{j}")
+            names[S] = f"S_{{{i},{j}}}"
+            inverse[S] = forward[S] = S
+        for j in range(1, flag.d(i) + 1):
+            Q, w = sympy.Symbol(f"Q{i}_{j}"), sympy.Symbol(f"w{i}_{j}")
+            names[Q], names[w] = f"Q_{{{i},{j}}}", f"w_{{{i},{j}}}"
+            top = j == flag.d(i)
+            inverse[Q] = w * (1 - q) if top else w
+            forward[w] = Q / (1 - q) if top else Q
+
+    def printed(pairs):
+        return {names[t]: sympy.latex(f, symbol_names=names) for t, f in pairs.items()}
+    return printed(inverse), printed(forward)
+
+
+def align_blocks(text, title):
+    """The formulas (target → formula) of each align* after a paragraph title."""
+    after = text.split(title, 1)[1].split(r"\paragraph", 1)[0]
+    blocks = []
+    for chunk in after.split(r"\begin{align*}")[1:]:
+        body = chunk.split(r"\end{align*}")[0]
+        pairs = [line.strip().rstrip("\\").strip().split(" &= ", 1)
+                 for line in body.strip().splitlines()]
+        blocks.append(dict(pairs))
+    return blocks
+
+
+def test_isomorphisms_latex_give_the_change_of_variables(iso_store):
+    options = TableOptions(isomorphisms=True, command="ringmatch table runs.db --isomorphisms")
+    text = render(iso_store, "latex", options)
+    for case in ("Gr(2;4)", "Fl(3)"):
+        inverse, forward = change_of_variables(case)
+        title = rf"\paragraph{{Isomorphism {case}, whitney $\to$ vieta}}"
+        assert title in text
+        blocks = align_blocks(text, title)
+        assert blocks == [forward, inverse], case
+    # Gr(2;4): the one non-trivial generator, Q1_2 = (1 − q1)·w1_2
+    assert r"Q_{1,2} &= w_{1,2} \left(1 - q_{1}\right)" in text
+    assert r"Q_{1,1} &= w_{1,1} \\" in text
+    # bethe is skipped with a reason in a comment; the pair is then whitney, vieta
+    assert "% P2: bethe skipped for the isomorphism: its generators are Chern roots" in text
+    assert r"\paragraph{Isomorphism P2, whitney $\to$ vieta}" in text
+    assert "Fl(1,2;4)" not in text.split(r"\end{table}")[1].split("% produced by")[0]
+    # the block names each search with the seed of the stored certificate
+    block = [line for line in text.splitlines() if line.startswith("% isomorphisms computed")]
+    assert len(block) == 1
+    for case, _, seed in ISO_CASES[:3]:
+        assert f"{case} whitney->vieta seed {seed} (the check's seed)" in block[0]
+    assert "Fl(1,2;4)" not in block[0]
+    assert "produced by: ringmatch table runs.db --isomorphisms" in text
+    assert render(iso_store, "latex", options) == text      # same seeds, same output
+
+
+def test_isomorphisms_markdown_has_the_same_formulas(iso_store):
+    text = render(iso_store, "markdown", TableOptions(isomorphisms=True))
+    for case in ("Gr(2;4)", "Fl(3)"):
+        assert f"**Isomorphism {case}, whitney → vieta**: Found and verified" in text
+        inverse, forward = change_of_variables(case)
+        for target, formula in {**inverse, **forward}.items():
+            assert f"$$\n{target} = {formula}\n$$" in text, (case, target)
+    assert "$$\nQ_{1,2} = w_{1,2} \\left(1 - q_{1}\\right)\n$$" in text
+    assert "Note: P2: bethe skipped for the isomorphism" in text
+    footnote = text.split("[^reproduce]: ")[1]
+    assert "isomorphisms computed with compare.iso.find_isomorphism" in footnote
+    assert "Gr(2;4) whitney->vieta seed 22" in footnote
+
+
+def test_isomorphisms_latex_compiles(iso_store, tmp_path):
+    options = TableOptions(isomorphisms=True, relations=True, standalone=True)
+    compile_latex(render(iso_store, "latex", options), tmp_path)
+
+
+def test_cli_table_isomorphisms(iso_store):
+    run = run_cli("table", str(iso_store), "--format", "markdown", "--isomorphisms")
+    assert run.returncode == 0, run.stderr
+    assert "$$\nQ_{2,1} = w_{2,1} \\left(1 - q_{2}\\right)\n$$" in run.stdout   # Fl(3)
+    assert "--isomorphisms" in run.stdout.split("produced by: ")[1].splitlines()[0]
+    csv_run = run_cli("table", str(iso_store), "--format", "csv", "--isomorphisms")
+    assert csv_run.returncode == 0 and "isomorphisms computed" not in csv_run.stdout
