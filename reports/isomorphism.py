@@ -73,7 +73,7 @@ def formula_text(formula: GeneratorFormula, source_names: Sequence[str]) -> str:
     return sympy.sstr(formula_expression(formula, source_names))
 
 
-def _latex_name(name: str) -> str:
+def latex_name(name: str) -> str:
     match = re.fullmatch(r"([A-Za-z]+)(\d+)_(\d+)", name)
     if match:
         return f"{match.group(1)}_{{{match.group(2)},{match.group(3)}}}"
@@ -85,7 +85,7 @@ def _latex_name(name: str) -> str:
 
 def formula_latex(formula: GeneratorFormula, source_names: Sequence[str]) -> str:
     expression = formula_expression(formula, source_names)
-    names = {s: _latex_name(s.name) for s in expression.free_symbols}
+    names = {s: latex_name(s.name) for s in expression.free_symbols}
     return sympy.latex(expression, symbol_names=names)
 
 
@@ -131,7 +131,7 @@ def _formula_lines(direction: Direction, latex: bool) -> List[str]:
     width = max((len(f.target) for f in direction.formulas), default=0)
     for f in direction.formulas:
         if latex:
-            lines.append(f"  {_latex_name(f.target)} &= "
+            lines.append(f"  {latex_name(f.target)} &= "
                          f"{formula_latex(f, direction.source_generators)} \\\\")
         else:
             lines.append(f"  {f.target:<{width}} = {formula_text(f, direction.source_generators)}")

@@ -422,8 +422,8 @@ def _verdict(result) -> str:
 
 def _formula_pairs(direction) -> List[Tuple[str, str]]:
     """(target, formula) in the LaTeX of reports/isomorphism.py."""
-    from .isomorphism import _latex_name, formula_latex
-    return [(_latex_name(f.target), formula_latex(f, direction.source_generators))
+    from .isomorphism import latex_name, formula_latex
+    return [(latex_name(f.target), formula_latex(f, direction.source_generators))
             for f in direction.formulas]
 
 
@@ -432,7 +432,7 @@ def _directions(result):
 
 
 def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
-    from .isomorphism import _latex_name
+    from .isomorphism import latex_name
     lines: List[str] = []
     for item in found:
         lines += [f"% {item.case}: {name} skipped for the isomorphism: {latex_escape(why)}"
@@ -448,7 +448,7 @@ def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
         if not result.found:
             lines.append(latex_escape(result.reason))
             continue
-        legend = ", ".join(f"${_latex_name(name)} = {meaning}$" for name, meaning in item.legend)
+        legend = ", ".join(f"${latex_name(name)} = {meaning}$" for name, meaning in item.legend)
         lines.append(f"Generators: {legend}.")
         for title, direction in _directions(result):
             lines += [latex_escape(f"{title} ({direction.target} generators in "
@@ -461,7 +461,7 @@ def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
 
 
 def isomorphisms_markdown(found: Sequence[CaseIsomorphism]) -> List[str]:
-    from .isomorphism import _latex_name
+    from .isomorphism import latex_name
     lines: List[str] = []
     for item in found:
         for name, why in item.skipped:
@@ -475,7 +475,7 @@ def isomorphisms_markdown(found: Sequence[CaseIsomorphism]) -> List[str]:
         if not result.found:
             lines += ["", result.reason]
             continue
-        legend = ", ".join(f"${_latex_name(name)} = {meaning}$" for name, meaning in item.legend)
+        legend = ", ".join(f"${latex_name(name)} = {meaning}$" for name, meaning in item.legend)
         lines += ["", f"Generators: {legend}."]
         for title, direction in _directions(result):
             lines += ["", f"{title} ({direction.target} generators in {direction.source} "
