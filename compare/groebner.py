@@ -172,6 +172,10 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     for p in new_pairs:
         heapq.heappush(state.queue, (p.sugar, state.key(p.lcm), next(state.serial), p))
     state.active = [g for g in state.active if not divides(lm_h, state.lms[g])] + [k]
+    # Keep the older elements' tails reduced by h (LM(h) divides none of their LMs, so
+    # only tails change): shorter, more reduced divisors make every later reduction cheaper.
+    for a in state.active[:-1]:
+        state.polys[a] = state.polys[a] % h
 
 
 def _s_polynomial(state: _State, pair: _Pair):
