@@ -129,6 +129,68 @@ class _State:
     key: Callable[[Monomial], tuple]
     queue: List = field(default_factory=list)   # heap of (sugar, lcm key, serial, pair)
     serial: Iterator[int] = field(default_factory=itertools.count)
+    lookup: "_ReducerLookup" = field(default_factory=lambda: _ReducerLookup([], [], {}))
+
+
+@dataclass
+class _ReducerLookup:
+    """Which element of a growing list of leading monomials divides a given monomial.
+
+    `found` maps a monomial to the index of a dividing LM, or to -(k + 1) when none of the
+    first k LMs divides it; the list only grows, so a hit stays valid and a miss needs
+    checking against the newer LMs only.  The support masks cheaply rule out most LMs."""
+    lms: List[Monomial]
+    masks: List[int]
+    found: Dict[Monomial, int]
+
+    def add(self, lm: Monomial) -> None:
+        self.lms.append(lm)
+        self.masks.append(_support_mask(lm))
+
+    def search(self, m: Monomial, start: int) -> int:
+        mask = _support_mask(m)
+        lms, masks = self.lms, self.masks
+        for k in range(start, len(lms)):
+            if not masks[k] & ~mask and all(x <= y for x, y in zip(lms[k], m)):
+                self.found[m] = k
+                return k
+        self.found[m] = -len(lms) - 1
+        return -1
+
+
+def _support_mask(e: Monomial) -> int:
+    mask = 0
+    for v, x in enumerate(e):
+        if x:
+            mask |= 1 << v
+    return mask
+
+
+def _reduce_by_lookup(f, polys: Sequence, lookup: _ReducerLookup):
+    """Fully reduced remainder of f by `polys` (whose LMs are lookup.lms).
+
+    `f % g` costs a pass over f even when LM(g) divides none of its terms, which is the
+    usual case; so each round reads the terms of f once and divides only by the elements
+    those terms ask for, largest term first, until a round finds every term irreducible."""
+    found = lookup.found
+    while not f.is_zero():
+        current_miss = -len(lookup.lms) - 1
+        wanted: Dict[int, None] = {}     # insertion-ordered set
+        for m in f.monoms():
+            k = found.get(m)
+            if k is None:
+                k = lookup.search(m, 0)
+            elif k < 0 and k != current_miss:
+                k = lookup.search(m, -k - 1)
+            if k >= 0:
+                wanted[k] = None
+        if not wanted:
+            return f
+        for k in wanted:
+            f = f % polys[k]
+            if f.is_zero():
+                return f
+    return f
 
 
 def _pair_sugar(state: _State, i: int, j: int, l: Monomial) -> int:
@@ -143,6 +205,7 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     state.polys.append(h)
     state.lms.append(lm_h)
     state.sugars.append(sugar)
+    state.lookup.add(lm_h)
 
     candidates = [(g, lcm(lm_h, state.lms[g])) for g in state.active]
     kept = []
@@ -200,14 +263,14 @@ def _buchberger(polys: List) -> List:
     key = order_key(ordering_name(polys[0].context()))
     state = _State([], [], [], [], [], key)
     for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
-        h = reduce_fully(f, [state.polys[a] for a in state.active])
+        h = _reduce_by_lookup(f, state.polys, state.lookup)
         if not h.is_zero():
             _add_to_basis(state, monic(h), f.total_degree())
     while True:
         pair = _select(state)
         if pair is None:
             break
-        h = reduce_fully(_s_polynomial(state, pair), [state.polys[a] for a in state.active])
+        h = _reduce_by_lookup(_s_polynomial(state, pair), state.polys, state.lookup)
         if h.is_zero():
             continue
         if h.is_constant():
@@ -222,10 +285,14 @@ def _inter_reduce(basis: List, key) -> List:
     lms = [leading_monomial(g) for g in basis]
     minimal = [g for t, g in enumerate(basis)
                if not any(divides(lms[s], lms[t]) for s in range(t))]
+    lookup = _ReducerLookup([], [], {})
+    for g in minimal:
+        lookup.add(leading_monomial(g))
     out = []
-    for t, g in enumerate(minimal):
-        others = minimal[:t] + minimal[t + 1:]
-        out.append(monic(reduce_fully(g, others)))
+    for g in minimal:
+        # every tail term is below LM(g), so no reduction of the tail can call on g itself
+        head = g.context().term(g.leading_coefficient(), leading_monomial(g))
+        out.append(monic(head + _reduce_by_lookup(g - head, minimal, lookup)))
     return out
 
 
