@@ -11,6 +11,7 @@ References beside each check:
 """
 from __future__ import annotations
 
+import itertools
 import math
 
 import flint
@@ -22,6 +23,7 @@ from presentations import bethe, whitney
 from presentations.flagtype import parse_flag
 from presentations.interface import build_series, build_specialised
 from presentations.meanings import Meaning
+from reports.formulas import to_sympy
 
 SMALL_PRIME = 32003
 
@@ -166,3 +168,34 @@ def test_colength_agrees_with_sympy(case):
     reference = count_standard_monomials(leading, len(gens))
     _, ideal = saturated_ideal(flag, spec)
     assert groebner.colength(groebner.groebner_basis(ideal)) == reference == rank_times_orderings(flag)
+
+
+@pytest.mark.parametrize("case", ["P2", "P3", "Gr(2;4)"])   # SymPy's lex bases: Fl(3) > 5 min
+def test_symmetric_part_colength_agrees_with_sympy(case):
+    # SymPy alone: eliminate the roots and u from the Bethe ideal plus E_ij − e_j(X^(i)) with
+    # a lex basis; the elimination ideal in the E's must have the colength of SymPy's own
+    # Whitney ideal, the rank (arXiv:2310.03826; standard count of fixed points).
+    flag = parse_flag(case)
+    spec = algebra.draw_specialisation(flag.n, flag.m, seed=21, prime=SMALL_PRIME)
+    polys, gens = sympy_bethe_ideal(flag, spec)
+    roots = gens[:-1]
+    E, by_level, start = [], [], 0
+    for i in range(1, flag.m + 1):
+        level = roots[start:start + flag.k(i)]
+        start += flag.k(i)
+        for j in range(1, flag.k(i) + 1):
+            e = sympy.Symbol(f"E{i}_{j}")
+            E.append(e)
+            by_level.append(e - sum(sympy.Mul(*c) for c in itertools.combinations(level, j)))
+    basis = sympy.groebner(polys + by_level, *gens, *E, modulus=SMALL_PRIME, order="lex")
+    eliminated = [g for g in basis.exprs if not (g.free_symbols & set(gens))]
+    leading = [sympy.Poly(g, *E).monoms(order=sympy.polys.orderings.lex)[0] for g in eliminated]
+    symmetric = count_standard_monomials(leading, len(E))
+
+    presentation = build_specialised(whitney.FAMILY, flag, spec)
+    names = presentation.ring.ctx.names()
+    symbols = [sympy.Symbol(x) for x in names]
+    w_basis = sympy.groebner([to_sympy(r.poly, names) for r in presentation.relations], *symbols,
+                             modulus=SMALL_PRIME, order="grevlex")
+    w_leading = [sympy.Poly(g, *symbols).monoms(order="grevlex")[0] for g in w_basis.exprs]
+    assert symmetric == count_standard_monomials(w_leading, len(symbols)) == flag.rank
