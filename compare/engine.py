@@ -52,6 +52,7 @@ class PresentationReport:
     holds: Optional[bool] = None
     separates: Optional[bool] = None
     complete: Optional[bool] = None
+    colength_method: Optional[str] = None
     classical_method: Optional[str] = None
     fixed_points_ok: Optional[bool] = None   # at q = 0: relations vanish, units do not,
                                              # generators separate the fixed points
@@ -155,24 +156,25 @@ def without_unit_factors(poly, units: Sequence):
     return poly
 
 
-def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisation,
-                       fixed_points_ok: bool) -> Tuple[Optional[int], str]:
-    """Colength at q = 0 with the units inverted, and how it was obtained.
+def colength_with_units(family: Family, flag: FlagType, spec: algebra.Specialisation,
+                        points_bound: Optional[str]) -> Tuple[Optional[int], str]:
+    """Colength with the units inverted, and how it was obtained.
 
-    Inverting units by extra variables is what makes these bases slow, so when the fixed
-    points give the lower bound (rank distinct points where the relations vanish and the
-    units do not), the relations with their unit factors removed — an ideal inside the
-    localised one, so an upper bound — settle it whenever that bound is the rank."""
-    presentation = build_specialised(family, flag, classical(spec))
-    if presentation.units and fixed_points_ok:
+    Inverting units by extra variables is what makes these bases slow.  When the points give
+    a lower bound of rank — `points_bound` names them: the fixed points at q = 0, or the
+    Bethe points over F_p((s)) for a generic q — the relations with their unit factors
+    removed, an ideal inside the localised one and so an upper bound, settle it whenever
+    that bound is the rank."""
+    presentation = build_specialised(family, flag, spec)
+    if presentation.units and points_bound:
         stripped = [without_unit_factors(r.poly, presentation.units)
                     for r in presentation.relations]
         bound = groebner.colength(groebner.groebner_basis(stripped))
         if bound == flag.rank:
             return bound, ("Gröbner basis of the relations without unit factors (upper bound) "
-                           "and the fixed points (lower bound)")
+                           f"and {points_bound} (lower bound)")
     how = "Gröbner basis with each unit inverted" if presentation.units else "Gröbner basis"
-    return own_ideal(family, flag, classical(spec)).colength, how
+    return own_ideal(family, flag, spec).colength, how
 
 
 @dataclass
@@ -352,8 +354,9 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
         report = reports[family.name]
         if family in by_groebner or (method == "auto" and not family.solved_by_points and
                                      report.expected_colength <= CLASSICAL_COLENGTH_LIMIT):
-            report.classical_colength, report.classical_method = classical_colength(
-                family, flag, residues, bool(report.fixed_points_ok))
+            report.classical_colength, report.classical_method = colength_with_units(
+                family, flag, classical(residues),
+                "the fixed points" if report.fixed_points_ok else None)
         if family not in by_groebner and method == "auto":
             report.notes.append(
                 f"no Gröbner basis at generic q: expected colength {report.expected_colength} "
@@ -392,10 +395,15 @@ def groebner_reports(families: Sequence[Family], flag: FlagType,
     common = common_setup(families, flag, residues) if with_transport else None
     for family in families:
         report = reports[family.name]
+        if not with_transport:
+            # Nothing to compare ideal by ideal: only the colength is wanted.
+            report.colength, report.colength_method = colength_with_units(
+                family, flag, residues, "the Bethe points" if report.complete else None)
+            continue
         own[family.name] = own_ideal(family, flag, residues)
         report.colength = own[family.name].colength
-        if not with_transport:
-            continue
+        report.colength_method = "Gröbner basis" + (
+            " with each unit inverted" if own[family.name].ring.extra else "")
         moved[family.name] = transported_ideal(family, flag, residues, common, own[family.name])
         if moved[family.name] is not None and not moved[family.name].faithful:
             report.notes.append(

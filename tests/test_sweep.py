@@ -147,15 +147,15 @@ def test_a_case_over_the_time_limit_is_inconclusive_and_the_sweep_goes_on(tmp_pa
 
 
 def test_a_case_over_the_memory_limit_is_inconclusive(tmp_path):
-    """Fl(5) with three presentations needs several MiB beyond a fresh worker; with a 1 MiB
+    """Fl(6) with three presentations needs several MiB beyond a fresh worker; with a 1 MiB
     allowance it must stop (FLINT aborts or Python raises MemoryError) within seconds."""
-    finished = ringmatch("sweep", "--cases", "P1;Fl(5)", "--presentations",
+    finished = ringmatch("sweep", "--cases", "P1;Fl(6)", "--presentations",
                          "whitney,vieta,bethe", "--case-memory", "1", "--workers", "1",
                          "--store", str(tmp_path / "s.db"), "--json")
     assert finished.returncode == 0, finished.stderr
     results = {r["case"]: r for r in json.loads(finished.stdout)["cases"]}
-    assert results["Fl(5)"]["verdict"] == "inconclusive"
-    assert results["Fl(5)"]["reason"].startswith("limit: out of memory under --case-memory 1 MiB")
+    assert results["Fl(6)"]["verdict"] == "inconclusive"
+    assert results["Fl(6)"]["reason"].startswith("limit: out of memory under --case-memory 1 MiB")
     assert results["P1"]["verdict"] == "agree"          # the sweep went on around it
 
 
