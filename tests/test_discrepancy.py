@@ -18,38 +18,19 @@ import sys
 import pytest
 import sympy
 
-from compare import algebra
-from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
 from compare.cli import main as cli_main
 from compare.engine import check_case
 from presentations import get_family, whitney
 from presentations.flagtype import parse_flag
-from presentations.interface import Family, Relation
 from reports.discrepancy import case_file_stem, report_record, write_report
+
+from broken_variants import flipped_q_sign
 
 FL3 = parse_flag("Fl(1,2;3)")
 SEED = 11
 
 
-def flipped_relations(flag, ring):
-    """q-Whitney with + instead of − in front of the quantum term (a deliberate error)."""
-    out = []
-    for i in range(1, flag.m + 1):
-        d = flag.d(i)
-        lam_Q = [ring.one] + [ring.gen[f"Q{i}_{j}"] for j in range(1, d + 1)]
-        lam_S, below, above = (whitney.lambda_y_S(flag, ring, i),
-                               whitney.lambda_y_S(flag, ring, i - 1),
-                               whitney.lambda_y_S(flag, ring, i + 1))
-        q, zero = ring.q[i - 1], ring.zero
-        classical = ypoly_sub(ypoly_mul(lam_S, lam_Q, zero), above, zero)
-        quantum = ypoly_shift(ypoly_scale(ypoly_sub(lam_S, below, zero), q * lam_Q[d]), d, zero)
-        total = ypoly_sub(ypoly_scale(classical, ring.one - q), quantum, zero)
-        out += [Relation(f"level {i}, y^{j}", total[j]) for j in range(1, flag.k(i + 1) + 1)]
-    return out
-
-
-FLIPPED = Family(name="whitney-flipped", description="q-Whitney, quantum term negated (test)",
-                 generators=whitney.generators, relations=flipped_relations)
+FLIPPED = flipped_q_sign("whitney-flipped")
 
 
 def sympy_whitney_coefficient(flag, level, power, *, quantum_sign=1, below_sign=-1):

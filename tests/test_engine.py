@@ -10,12 +10,13 @@ import pytest
 import sympy
 
 from compare import algebra
-from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
 from compare.engine import check_case
 from presentations import get_family, whitney
 from presentations.flagtype import FlagType, parse_flag
-from presentations.interface import Family, Relation, build_specialised
+from presentations.interface import build_specialised
 from reports.formulas import to_sympy
+
+from broken_variants import whitney_variant
 
 SMALL_PRIME = 32003   # SymPy's modular Gröbner bases are much faster with a small prime
 ALL_UP_TO_4 = [FlagType(tuple(d for d in range(1, n) if mask >> (d - 1) & 1), n)
@@ -85,27 +86,6 @@ def test_same_seed_same_result_and_trials_use_distinct_primes():
 # ---------------------------------------------------------------------------------------
 # Broken variants, judged independently by SymPy
 
-def _whitney_with(sign=1, square_q=False):
-    """Whitney relations with the sign of the q-term flipped and/or q_i replaced by q_i²."""
-    def relations(flag, ring):
-        if square_q:
-            ring = replace(ring, q=tuple(q * q for q in ring.q))
-        zero, out = ring.zero, []
-        for i in range(1, flag.m + 1):
-            d = flag.d(i)
-            lam_Q = [ring.one] + [ring.gen[f"Q{i}_{j}"] for j in range(1, d + 1)]
-            lam_S = whitney.lambda_y_S(flag, ring, i)
-            below, above = whitney.lambda_y_S(flag, ring, i - 1), whitney.lambda_y_S(flag, ring, i + 1)
-            q = ring.q[i - 1]
-            classical = ypoly_sub(ypoly_mul(lam_S, lam_Q, zero), above, zero)
-            quantum = ypoly_shift(ypoly_scale(ypoly_sub(lam_S, below, zero), sign * q * lam_Q[d]),
-                                  d, zero)
-            total = ypoly_add(ypoly_scale(classical, ring.one - q), quantum, zero)
-            out += [Relation(f"level {i}, y^{j}", total[j]) for j in range(1, flag.k(i + 1) + 1)]
-        return out
-    return relations
-
-
 def _dropping(index):
     def relations(flag, ring):
         rels = whitney.relations(flag, ring)
@@ -123,8 +103,8 @@ def _weights_changed_in_one_relation(index, permutation):
 
 
 MUTANTS = {
-    "flipped-q-sign": _whitney_with(sign=-1),
-    "q-squared": _whitney_with(square_q=True),
+    "flipped-q-sign": whitney_variant(sign=-1),
+    "q-squared": whitney_variant(square_q=True),
     "dropped-relation": _dropping(1),
     "weights-swapped": _weights_changed_in_one_relation(
         1, lambda n: [1, 0] + list(range(2, n))),             # T1 <-> T2

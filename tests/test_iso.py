@@ -26,12 +26,12 @@ import pytest
 import sympy
 
 from compare import algebra, groebner, iso
-from compare.algebra import ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
 from compare.engine import own_ideal
 from presentations import toda, vieta, whitney
 from presentations.flagtype import FlagType, parse_flag
-from presentations.interface import Family, Relation
 from reports.isomorphism import as_json, coefficient_expression, formula_expression
+
+from broken_variants import flipped_q_sign
 
 
 def flag_types(max_n):
@@ -150,24 +150,7 @@ def test_eliminated_vieta_to_whitney_coefficients_in_T():
 # ---------------------------------------------------------------------------------------
 # No isomorphism
 
-def _broken_whitney_relations(flag, ring):
-    """The q-Whitney relations with the sign of the q-term flipped."""
-    out = []
-    for i in range(1, flag.m + 1):
-        d, zero, qi = flag.d(i), ring.zero, ring.q[i - 1]
-        lam_Q = [ring.one] + [ring.gen[f"Q{i}_{j}"] for j in range(1, d + 1)]
-        lam_S, below, above = (whitney.lambda_y_S(flag, ring, i), whitney.lambda_y_S(flag, ring, i - 1),
-                               whitney.lambda_y_S(flag, ring, i + 1))
-        classical = ypoly_sub(ypoly_mul(lam_S, lam_Q, zero), above, zero)
-        quantum = ypoly_shift(ypoly_scale(ypoly_sub(lam_S, below, zero), qi * lam_Q[d]), d, zero)
-        total = ypoly_sub(ypoly_scale(classical, ring.one - qi), quantum, zero)
-        out += [Relation(f"level {i}, y^{j} (q-term flipped)", total[j])
-                for j in range(1, flag.k(i + 1) + 1)]
-    return out
-
-
-BROKEN = Family("broken-whitney", "q-Whitney with the q-term's sign flipped",
-                whitney.generators, _broken_whitney_relations)
+BROKEN = flipped_q_sign(label_suffix=" (q-term flipped)")
 
 
 @pytest.mark.parametrize("case", ["Gr(2;4)", "Fl(1,3;4)"])

@@ -23,11 +23,12 @@ import sympy
 
 from compare import algebra, points
 from compare import series as ps
-from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
 from presentations import toda, whitney
 from presentations.flagtype import FlagType, parse_flag
-from presentations.interface import Family, Generator, Relation, build_series
+from presentations.interface import Family, Generator, build_series
 from presentations.meanings import Meaning, lambda_Q, lambda_S
+
+from broken_variants import flipped_q_sign
 
 SMALL_PRIME = 1000003
 
@@ -244,23 +245,7 @@ def test_whitney_relations_hold_at_all_points(flag):
     assert result.points == flag.rank and result.relations == len(whitney.generators(flag))
 
 
-def _broken_whitney_relations(flag, ring):
-    """The Whitney relations with the sign of the q-term flipped."""
-    out = []
-    for i in range(1, flag.m + 1):
-        d, zero, q = flag.d(i), ring.zero, ring.q[i - 1]
-        lam_Q = [ring.one] + [ring.gen[f"Q{i}_{j}"] for j in range(1, d + 1)]
-        lam_S, below, above = (whitney.lambda_y_S(flag, ring, i), whitney.lambda_y_S(flag, ring, i - 1),
-                               whitney.lambda_y_S(flag, ring, i + 1))
-        classical = ypoly_sub(ypoly_mul(lam_S, lam_Q, zero), above, zero)
-        quantum = ypoly_shift(ypoly_scale(ypoly_sub(lam_S, below, zero), q * lam_Q[d]), d, zero)
-        total = ypoly_sub(ypoly_scale(classical, ring.one - q), quantum, zero)
-        out += [Relation(f"level {i}, y^{j}", total[j]) for j in range(1, flag.k(i + 1) + 1)]
-    return out
-
-
-BROKEN = Family("broken-whitney", "Whitney with the q-term's sign flipped",
-                whitney.generators, _broken_whitney_relations)
+BROKEN = flipped_q_sign()
 
 
 @pytest.mark.parametrize("case", ["P2", "Gr(2;4)", "Fl(1,3;4)"])
