@@ -36,6 +36,8 @@ REFERENCE_COLENGTH_LIMIT = 80
 # Classical (q = 0) ideals are far cheaper (Whitney for Fl(6): 0.1 s), and their colength is
 # what completeness needs, so they get a much higher automatic limit.
 CLASSICAL_COLENGTH_LIMIT = 5040
+# Largest quotient whose multiplication matrix is built to localise at the units.
+LOCALISATION_SIZE_LIMIT = 3000
 DEFAULT_ORDER = 6
 MAX_WITNESSES = 3
 METHODS = ("auto", "groebner", "points", "both")
@@ -156,23 +158,53 @@ def without_unit_factors(poly, units: Sequence):
     return poly
 
 
+def localised_colength(basis: list, units: Sequence) -> int:
+    """Dimension of (F[x]/I)[1/units] for a zero-dimensional I given by its Gröbner basis:
+    the rank of a high power of multiplication by the product of the units (Fitting's lemma:
+    the ranks of the powers decrease until they are stable, at most dim steps)."""
+    monomials = groebner.standard_monomials(basis)
+    index = {m: k for k, m in enumerate(monomials)}
+    ctx = basis[0].context()
+    product = ctx.constant(1)
+    for unit in units:
+        product = product * unit
+    size = len(monomials)
+    matrix = flint.nmod_mat(size, size, ctx.modulus())
+    for column, monomial in enumerate(monomials):
+        image = groebner.normal_form(product * ctx.from_dict({monomial: 1}), basis)
+        for exponents, coefficient in image.terms():
+            matrix[index[exponents], column] = int(coefficient)
+    rank = matrix.rank()
+    while True:
+        matrix = matrix * matrix
+        smaller = matrix.rank()
+        if smaller == rank:
+            return rank
+        rank = smaller
+
+
 def colength_with_units(family: Family, flag: FlagType, spec: algebra.Specialisation,
                         points_bound: Optional[str]) -> Tuple[Optional[int], str]:
     """Colength with the units inverted, and how it was obtained.
 
-    Inverting units by extra variables is what makes these bases slow.  When the points give
-    a lower bound of rank — `points_bound` names them: the fixed points at q = 0, or the
-    Bethe points over F_p((s)) for a generic q — the relations with their unit factors
-    removed, an ideal inside the localised one and so an upper bound, settle it whenever
-    that bound is the rank."""
+    Inverting units by extra variables is what makes these bases slow.  The relations with
+    their unit factors removed generate an ideal with the same localisation; when it is
+    zero-dimensional, its colength bounds the answer above.  If the points give the matching
+    lower bound of rank — `points_bound` names them: the fixed points at q = 0, or the Bethe
+    points over F_p((s)) for a generic q — that settles it; otherwise the localisation is
+    measured by linear algebra on the quotient (`localised_colength`)."""
     presentation = build_specialised(family, flag, spec)
-    if presentation.units and points_bound:
-        stripped = [without_unit_factors(r.poly, presentation.units)
-                    for r in presentation.relations]
-        bound = groebner.colength(groebner.groebner_basis(stripped))
-        if bound == flag.rank:
+    if presentation.units:
+        stripped = groebner.groebner_basis([without_unit_factors(r.poly, presentation.units)
+                                            for r in presentation.relations])
+        bound = groebner.colength(stripped)
+        if bound == flag.rank and points_bound:
             return bound, ("Gröbner basis of the relations without unit factors (upper bound) "
                            f"and {points_bound} (lower bound)")
+        if bound is not None and bound <= LOCALISATION_SIZE_LIMIT:
+            return localised_colength(stripped, presentation.units), (
+                "Gröbner basis of the relations without unit factors, localised at the units "
+                "by the rank of a power of their multiplication matrix")
     how = "Gröbner basis with each unit inverted" if presentation.units else "Gröbner basis"
     return own_ideal(family, flag, spec).colength, how
 

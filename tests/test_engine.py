@@ -172,3 +172,30 @@ def test_toda_is_refused_for_a_partial_flag():
     from presentations.interface import PresentationError
     with pytest.raises(PresentationError):
         check_case(parse_flag("Gr(2,4)"), families("whitney", "toda"), seed=1)
+
+
+def test_localisation_by_linear_algebra_matches_inverse_variables():
+    import flint
+    from compare import groebner
+    from compare.engine import localised_colength, own_ideal, without_unit_factors
+    # x^2 (x − 1)(x − 2) with x inverted keeps the two roots 1 and 2.
+    ctx = flint.nmod_mpoly_ctx.get(("x", "y"), SMALL_PRIME, "degrevlex")
+    x, y = ctx.gens()
+    basis = groebner.groebner_basis([x ** 2 * (x - 1) * (x - 2), y ** 2 - x])
+    assert groebner.colength(basis) == 8 and localised_colength(basis, [x]) == 4
+    # The Vieta forms (where the unit-free relations are zero-dimensional): the same
+    # colength as with one inverse variable per unit.
+    compared = 0
+    for case in ("Gr(2,4)", "Fl(3)", "Fl(1,2;4)", "Gr(3,5)"):
+        flag = parse_flag(case)
+        spec = algebra.draw_specialisation(flag.n, flag.m, seed=5)
+        for name in ("vieta", "vieta-eliminated"):
+            built = build_specialised(get_family(name), flag, spec)
+            stripped = groebner.groebner_basis(
+                [without_unit_factors(r.poly, built.units) for r in built.relations])
+            if not groebner.is_zero_dimensional(stripped):
+                continue
+            compared += 1
+            assert localised_colength(stripped, built.units) == \
+                own_ideal(get_family(name), flag, spec).colength == flag.rank
+    assert compared >= 4
