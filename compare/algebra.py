@@ -162,19 +162,15 @@ def ypoly_shift(a: YPoly, k: int, zero) -> YPoly:
     return [zero] * k + list(a)
 
 
-def lambda_y_of_roots(roots: Sequence, one) -> YPoly:
-    """λ_y of a bundle with the given Chern roots: ∏ (1 + y·x), i.e. [1, e_1, …, e_k]."""
+def elementary_symmetric(values: Sequence, one) -> List:
+    """[e_0, e_1, …, e_k] of the given ring elements — also λ_y of a bundle with these Chern
+    roots, ∏ (1 + y·x), as a polynomial in y."""
     out = [one]
-    for x in roots:
+    for x in values:
         out = out + [one * 0]
         for j in range(len(out) - 1, 0, -1):
             out[j] = out[j] + x * out[j - 1]
     return out
-
-
-def elementary_symmetric(values: Sequence, one) -> List:
-    """[e_0, e_1, …, e_k] of the given ring elements."""
-    return lambda_y_of_roots(values, one)
 
 
 def ypoly_divide_series(a: YPoly, b: YPoly, terms: int, zero) -> YPoly:

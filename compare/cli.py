@@ -139,7 +139,8 @@ def cmd_relations(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from .engine import check_case, check_summary_text
+    from reports.summary import check_text
+    from .engine import check_case
     families = [resolve_family(name) for name in args.presentations]
     if not args.plain and args.prime - 2 < args.case.n:
         raise UsageError(f"--prime {args.prime} is too small for {args.case.n} distinct weights")
@@ -148,7 +149,7 @@ def cmd_check(args) -> int:
     result = check_case(args.case, families, seed=args.seed, prime=args.prime,
                         equivariant=not args.plain, order=args.order, trials=args.trials,
                         method=args.method)
-    emit(args, result, check_summary_text(result))
+    emit(args, result, check_text(result))
     if args.report is not None:
         from reports.discrepancy import reproduce_command, write_report
         command = reproduce_command(result, args.presentations, args.method)

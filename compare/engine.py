@@ -22,7 +22,8 @@ from typing import Dict, List, Optional, Sequence, Tuple
 import flint
 
 from presentations.flagtype import FlagType
-from presentations.interface import Family, Presentation, build_specialised
+from presentations.interface import Family, build_specialised
+from presentations.vieta import det_S
 
 from . import algebra, groebner, points, transport
 
@@ -221,7 +222,7 @@ def common_setup(families: Sequence[Family], flag: FlagType, spec: algebra.Speci
     """The common λ-class ring with det S_1 … det S_m and every other unit that a movable
     presentation declares inverted (each by its own variable)."""
     plain = transport.common_ring(flag, spec)
-    units = [transport.det_S(flag, plain, i) for i in range(1, flag.m + 1)]
+    units = [det_S(flag, plain, i) for i in range(1, flag.m + 1)]
     for family in families:
         for unit in transport.transport_units(build_specialised(family, flag, spec), plain,
                                               spec) or []:
@@ -520,8 +521,3 @@ def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int
         "pairs": [p.as_dict() for p in first["pairs"]],
         "timings": first["timings"],
     }
-
-
-def check_summary_text(result: dict) -> str:
-    from reports.summary import check_text
-    return check_text(result)

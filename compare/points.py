@@ -194,7 +194,7 @@ def _sweep(setup: _Setup, roots: Sequence[Sequence[Series]], f_order: int, j_ord
     suffix products, never by division: X_b − x vanishes at s = 0 for the root above that
     starts at the same weight.
     """
-    flag, p, m, u = setup.flag, setup.prime, setup.flag.m, setup.size
+    p, m, u = setup.prime, setup.flag.m, setup.size
     levels = [()] + [list(level) for level in roots] + [setup.top]
     f_low = f_order - 1             # precision of the s-cofactors of q-terms in F …
     low = j_order - 1               # … and in the Jacobian

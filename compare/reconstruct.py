@@ -162,11 +162,6 @@ def exponents_of_degree(degree: int, variables: int) -> List[Tuple[int, ...]]:
     return weighted_exponents(degree, [1] * variables)
 
 
-def exponents_up_to(degree: int, variables: int) -> Iterator[Tuple[int, ...]]:
-    for d in range(degree + 1):
-        yield from sorted(exponents_of_degree(d, variables), reverse=True)
-
-
 def monomial_value(values: Sequence[int], exponents: Sequence[int], prime: int) -> int:
     return prod(pow(v, e, prime) for v, e in zip(values, exponents)) % prime
 

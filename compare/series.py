@@ -31,10 +31,6 @@ def on_line(slope: int, prime: int) -> Series:
     return flint.nmod_poly([0, slope % prime], prime)
 
 
-def mul(a: Series, b: Series, order: int) -> Series:
-    return a.mul_low(b, order)
-
-
 def product(factors: Iterable[Series], order: int, prime: int) -> Series:
     result = constant(1, prime)
     for f in factors:
@@ -51,11 +47,6 @@ def inverse(a: Series, order: int) -> Series:
 
 def truncate(a: Series, order: int) -> Series:
     return a.truncate(order)
-
-
-def shift_up(a: Series, k: int) -> Series:
-    """s^k · a."""
-    return a.left_shift(k)
 
 
 def coefficients(a: Series, order: int) -> List[int]:

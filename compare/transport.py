@@ -24,7 +24,6 @@ from typing import Dict, List, Optional
 from presentations.flagtype import FlagType
 from presentations.interface import Presentation, Relation
 from presentations.meanings import Meaning, lambda_S_name
-from presentations.vieta import det_S
 from presentations.whitney import lambda_y_S
 
 from . import algebra

@@ -24,7 +24,7 @@ import flint
 from .flagtype import FlagType
 from .interface import Generator
 from .meanings import Meaning
-from .userfile_container import Entry, FileSpec, GeneratorDecl, RelationDecl, UnitDecl
+from .userfile_container import FileSpec, GeneratorDecl, RelationDecl, UnitDecl
 from .userfile_syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Loc, Loop, Negate,
                               Node, Num, Power, PresentationFileError, Symbol, Template, Toda,
                               fail)

@@ -98,11 +98,6 @@ class SourceText:
         return SourceText(self.file, self.text[start:end], self.lines, offsets, self.where(start))
 
 
-def plain_source(text: str, file: str = "<text>") -> SourceText:
-    """A string that is a whole 'file' of its own (used for command-line text and tests)."""
-    return SourceText(file, text, LineIndex.of(text))
-
-
 @dataclass(frozen=True)
 class Loc:
     source: SourceText

@@ -6,7 +6,7 @@ term from exponent vectors, never by parsing text.
 from __future__ import annotations
 
 from functools import lru_cache
-from typing import Dict, Sequence
+from typing import Sequence
 
 import sympy
 

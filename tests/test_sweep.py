@@ -3,7 +3,6 @@ stop at the first counterexample, the command line, and the Dask path."""
 import io
 import json
 import math
-import os
 import signal
 import sqlite3
 import subprocess

@@ -20,7 +20,7 @@ from hypothesis import strategies as st
 from compare import algebra
 from presentations import FAMILIES, userfile
 from presentations.flagtype import parse_flag
-from presentations.interface import PresentationError, build_specialised
+from presentations.interface import build_specialised
 from presentations.userfile import PresentationFileError, family_from_text
 
 LABEL = "fuzz.toml"
