@@ -166,22 +166,34 @@ def _support_mask(e: Monomial) -> int:
     return mask
 
 
+def _reducer_of(m: Monomial, lookup: _ReducerLookup) -> int:
+    """Index of an element whose LM divides m, or -1."""
+    k = lookup.found.get(m)
+    if k is None:
+        return lookup.search(m, 0)
+    if k < 0 and k != -len(lookup.lms) - 1:
+        return lookup.search(m, -k - 1)
+    return k
+
+
 def _reduce_by_lookup(f, polys: Sequence, lookup: _ReducerLookup):
     """Fully reduced remainder of f by `polys` (whose LMs are lookup.lms).
 
-    `f % g` costs a pass over f even when LM(g) divides none of its terms, which is the
-    usual case; so each round reads the terms of f once and divides only by the elements
-    those terms ask for, largest term first, until a round finds every term irreducible."""
-    found = lookup.found
+    First the leading term alone is watched: reading one monomial is cheap, while listing
+    all of f's monomials costs more than a division, and an S-polynomial that reduces to
+    zero (most of them do) never needs more.  Once the leading term is irreducible, the tail is
+    reduced in rounds: each round reads the terms of f once and divides only by the
+    elements those terms ask for (`f % g` costs a pass over f even when LM(g) divides none
+    of its terms), until a round finds every term irreducible."""
     while not f.is_zero():
-        current_miss = -len(lookup.lms) - 1
+        k = _reducer_of(f.monomial(0), lookup)
+        if k < 0:
+            break
+        f = f % polys[k]
+    while not f.is_zero():
         wanted: Dict[int, None] = {}     # insertion-ordered set
         for m in f.monoms():
-            k = found.get(m)
-            if k is None:
-                k = lookup.search(m, 0)
-            elif k < 0 and k != current_miss:
-                k = lookup.search(m, -k - 1)
+            k = _reducer_of(m, lookup)
             if k >= 0:
                 wanted[k] = None
         if not wanted:
