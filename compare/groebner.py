@@ -322,8 +322,46 @@ def groebner_basis(polys: Sequence) -> List:
             raise ValueError("all polynomials must belong to the same nmod_mpoly context")
     if any(f.is_constant() for f in nonzero):
         return [ctx.constant(1)]
+    return _reduced_basis([monic(f) for f in nonzero])
+
+
+def _reduced_basis(polys: List) -> List:
+    """groebner_basis for nonzero, nonconstant, monic input.
+
+    Linear relations are solved first and their leading variables removed from the ring:
+    every later division then moves shorter exponent vectors (Fl(6) has 20 variables, 5
+    of them fixed by linear relations).  For the orders used here the restriction of the
+    order to the remaining variables is the same kind of order, the leading monomial of a
+    linear polynomial is its largest variable, and with E the reduced echelon form of the
+    linear relations and H the reduced basis of the rest (rewritten without E's leading
+    variables), E ∪ H is a Gröbner basis: pairs within E or within H reduce to zero by
+    construction and pairs across have coprime leading monomials."""
+    ctx = polys[0].context()
     key = order_key(ordering_name(ctx))
-    basis = _buchberger([monic(f) for f in nonzero])
+    linear = [f for f in polys if f.total_degree() == 1]
+    if not linear:
+        return _buchberger_reduced(polys, key)
+    echelon = _buchberger_reduced(linear, key)
+    if echelon[0].is_constant():
+        return echelon
+    pivots = [leading_monomial(e).index(1) for e in echelon]
+    rest = [normal_form(f, echelon) for f in polys if f.total_degree() != 1]
+    rest = [f for f in rest if not f.is_zero()]
+    if any(f.is_constant() for f in rest):
+        return [ctx.constant(1)]
+    if not rest:
+        return echelon
+    smaller = ctx.drop_gens(pivots)
+    inner = _reduced_basis([monic(f.project_to_context(smaller)) for f in rest])
+    if inner[0].is_constant():
+        return [ctx.constant(1)]
+    inner = [g.project_to_context(ctx) for g in inner]
+    echelon = [monic(normal_form(e, inner)) for e in echelon]
+    return sorted(inner + echelon, key=lambda f: key(leading_monomial(f)))
+
+
+def _buchberger_reduced(polys: List, key) -> List:
+    basis = _buchberger(polys)
     if len(basis) == 1 and basis[0].is_constant():
         return basis
     return _inter_reduce(basis, key)

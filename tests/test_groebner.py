@@ -163,6 +163,18 @@ def test_ideals_without_forced_pure_powers_match_sympy(ordering, data):
             G.standard_monomials(ours)
 
 
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from(ORDERINGS), st.data())
+def test_ideals_with_linear_relations_match_sympy(ordering, data):
+    """Linear relations are solved first and their variables dropped from the ring; the
+    basis put back together must still be SymPy's."""
+    ctx = flint.nmod_mpoly_ctx.get(("w", "x", "y", "z"), SMALL_PRIME, ordering)
+    polys = [random_poly(ctx, data, terms=4, degree=1)
+             for _ in range(data.draw(st.integers(1, 3)))]
+    polys += zero_dimensional_ideal(ctx, data)[data.draw(st.integers(0, 3)):]
+    check_against_sympy(polys, ctx, ordering, data)
+
+
 # ---------------------------------------------------------------------------------------
 # Edge cases, with answers known by hand
 
@@ -186,6 +198,19 @@ def test_unit_ideal(ctx):
     assert G.standard_monomials(basis) == []
     assert G.is_zero_dimensional(basis)
     assert G.is_member(x + 5 * z, basis)
+
+
+def test_linear_systems_by_hand(ctx):
+    x, y, z = ctx.gens()
+    # a consistent linear system: one point
+    assert G.groebner_basis([x + y + z - 7, x - y, 2 * z - 6]) == [z - 3, y - 2, x - 2]
+    # an inconsistent one, and one made inconsistent by a nonlinear relation
+    assert G.groebner_basis([x + y - 1, x + y - 2]) == [ctx.constant(1)]
+    assert G.groebner_basis([x - 1, y - 2, x * y - 3]) == [ctx.constant(1)]
+    # linear relations that leave a curve: x = y, and y² = z
+    basis = G.groebner_basis([x - y, y ** 2 - z])
+    assert basis == [x - y, y ** 2 - z]
+    assert G.colength(basis) is None
 
 
 def test_positive_dimensional_ideal(ctx):
