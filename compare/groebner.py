@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import heapq
 import itertools
+import operator
 from dataclasses import dataclass, field
 from typing import Callable, Dict, Iterator, List, Optional, Sequence, Tuple
 
@@ -56,20 +57,23 @@ def order_key(ordering: str) -> Callable[[Monomial], tuple]:
     raise ValueError(f"unsupported monomial ordering {ordering!r}")
 
 
+# map() over operator functions: these run millions of times on small cases, where they
+# cost more than the polynomial arithmetic.
+
 def divides(a: Monomial, b: Monomial) -> bool:
-    return all(x <= y for x, y in zip(a, b))
+    return all(map(operator.le, a, b))
 
 
 def lcm(a: Monomial, b: Monomial) -> Monomial:
-    return tuple(max(x, y) for x, y in zip(a, b))
+    return tuple(map(max, a, b))
 
 
 def coprime(a: Monomial, b: Monomial) -> bool:
-    return all(x == 0 or y == 0 for x, y in zip(a, b))
+    return not any(map(min, a, b))
 
 
 def quotient(a: Monomial, b: Monomial) -> Monomial:
-    return tuple(x - y for x, y in zip(a, b))
+    return tuple(map(operator.sub, a, b))
 
 
 # ---------------------------------------------------------------------------------------
@@ -249,8 +253,11 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     state.active = [g for g in state.active if not divides(lm_h, state.lms[g])] + [k]
     # Keep the older elements' tails reduced by h (LM(h) divides none of their LMs, so
     # only tails change): shorter, more reduced divisors make every later reduction cheaper.
+    # A division costs a pass over the dividend, and LM(h) usually divides none of its
+    # terms; the degrees in each variable rule most of those out first.
     for a in state.active[:-1]:
-        state.polys[a] = state.polys[a] % h
+        if divides(lm_h, state.polys[a].degrees()):
+            state.polys[a] = state.polys[a] % h
 
 
 def _s_polynomial(state: _State, pair: _Pair):
