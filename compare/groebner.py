@@ -6,7 +6,9 @@ the sugar selection strategy and the Gebauer–Möller criteria.  Every reductio
 FLINT's own single-divisor division: for nmod_mpoly, `f % g` returns a remainder none of
 whose terms is divisible by LM(g) (checked in tests/test_groebner.py), so repeating it over
 the basis until nothing changes gives a fully reduced normal form without any Python loop
-over coefficients.
+over coefficients.  Linear relations are solved first and their leading variables dropped
+from the ring (`_reduced_basis`).  DEVELOPERS.md records where the time goes and what was
+tried.
 
 Exponent vectors are plain tuples; `order_key` turns one into a Python sort key that agrees
 with the context's ordering, so the pair queue and the output sorting can be done in Python
