@@ -24,7 +24,7 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from compare import algebra, groebner  # noqa: E402
+from compare import algebra, groebner, ideal_division  # noqa: E402
 from presentations import whitney  # noqa: E402
 from presentations.flagtype import parse_flag  # noqa: E402
 from presentations.interface import build_specialised  # noqa: E402
@@ -107,6 +107,8 @@ def main(argv=None) -> int:
                      f"> {args.sympy_timeout / ours:.0f}" if reference is None
                      else f"{reference / ours:.1f}"])
         print(f"  done {case}", file=sys.stderr, flush=True)
+    ctx = whitney_relations(CASES[0], args.seed)[1][0].context()
+    print(f"division: {ideal_division.description(ctx)}")
     print(tabulate(rows, headers=["case", "rank", "colength", "ours (CPU s)", "SymPy (CPU s)",
                                   "SymPy / ours"], disable_numparse=True))
     return 0

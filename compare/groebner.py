@@ -2,13 +2,13 @@
 
 All polynomials of one computation live in one `nmod_mpoly_ctx`; the context's ordering
 ('degrevlex', 'deglex' or 'lex') is the monomial order.  The algorithm is Buchberger's with
-the sugar selection strategy and the Gebauer–Möller criteria.  Every reduction is done by
-FLINT's own single-divisor division: for nmod_mpoly, `f % g` returns a remainder none of
-whose terms is divisible by LM(g) (checked in tests/test_groebner.py), so repeating it over
-the basis until nothing changes gives a fully reduced normal form without any Python loop
-over coefficients.  Linear relations are solved first and their leading variables dropped
-from the ring (`_reduced_basis`).  DEVELOPERS.md records where the time goes and what was
-tried.
+the sugar selection strategy and the Gebauer–Möller criteria.  Linear relations are solved
+first and their leading variables dropped from the ring (`_reduced_basis`).  Every
+reduction is FLINT's division by the whole current basis (compare/ideal_division.py); where
+that routine cannot be reached, FLINT's single-divisor division `f % g` — whose remainder
+has no term divisible by LM(g), checked in tests/test_groebner.py — is repeated, steered by
+a lookup of which element divides which monomial.  DEVELOPERS.md records where the time
+goes and what was tried.
 
 Exponent vectors are plain tuples; `order_key` turns one into a Python sort key that agrees
 with the context's ordering, so the pair queue and the output sorting can be done in Python
@@ -21,6 +21,8 @@ import itertools
 import operator
 from dataclasses import dataclass, field
 from typing import Callable, Dict, Iterator, List, Optional, Sequence, Tuple
+
+from compare import ideal_division
 
 Monomial = Tuple[int, ...]
 
@@ -86,26 +88,9 @@ def monic(f):
     return f if int(lc) == 1 else f * (1 / lc)
 
 
-def reduce_fully(f, divisors: Sequence) -> object:
-    """Remainder of f on division by `divisors`: no term divisible by any of their LMs.
-
-    One pass divides by each divisor in turn; a later division can bring back terms
-    divisible by an earlier divisor, so passes repeat until one changes nothing."""
-    while True:
-        changed = False
-        for g in divisors:
-            if f.is_zero():
-                return f
-            r = f % g
-            if r != f:
-                f, changed = r, True
-        if not changed:
-            return f
-
-
 def normal_form(f, basis: Sequence):
     """Fully reduced normal form of f with respect to `basis` (a Gröbner basis)."""
-    return reduce_fully(f, [g for g in basis if not g.is_zero()])
+    return ideal_division.remainder(f, basis)
 
 
 def is_member(f, basis: Sequence) -> bool:
@@ -136,6 +121,22 @@ class _State:
     queue: List = field(default_factory=list)   # heap of (sugar, lcm key, serial, pair)
     serial: Iterator[int] = field(default_factory=itertools.count)
     lookup: "_ReducerLookup" = field(default_factory=lambda: _ReducerLookup([], [], {}))
+    divisors: Optional[ideal_division.Divisors] = None   # the active elements, while unchanged
+    tail_reduce: bool = True
+
+
+def _reduce(state: _State, f):
+    """Fully reduced remainder of f by the basis so far.
+
+    The active elements' leading monomials generate the same monomial ideal as all
+    elements', so dividing by them alone leaves no reducible term.  FLINT's division by
+    the whole list is used where available (one pass; see compare/ideal_division.py), else
+    python-flint's division by one element at a time, steered by the lookup."""
+    if state.divisors is None:
+        state.divisors = ideal_division.Divisors([state.polys[a] for a in state.active])
+    if state.divisors.native:
+        return state.divisors.remainder(f)
+    return _reduce_by_lookup(f, state.polys, state.lookup)
 
 
 @dataclass
@@ -224,6 +225,7 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     state.lms.append(lm_h)
     state.sugars.append(sugar)
     state.lookup.add(lm_h)
+    state.divisors = None
 
     candidates = [(g, lcm(lm_h, state.lms[g])) for g in state.active]
     kept = []
@@ -253,13 +255,15 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     for p in new_pairs:
         heapq.heappush(state.queue, (p.sugar, state.key(p.lcm), next(state.serial), p))
     state.active = [g for g in state.active if not divides(lm_h, state.lms[g])] + [k]
-    # Keep the older elements' tails reduced by h (LM(h) divides none of their LMs, so
-    # only tails change): shorter, more reduced divisors make every later reduction cheaper.
-    # A division costs a pass over the dividend, and LM(h) usually divides none of its
-    # terms; the degrees in each variable rule most of those out first.
-    for a in state.active[:-1]:
-        if divides(lm_h, state.polys[a].degrees()):
-            state.polys[a] = state.polys[a] % h
+    if state.tail_reduce:
+        # Keep the older elements' tails reduced by h (LM(h) divides none of their LMs, so
+        # only tails change): with one division per divisor, shorter divisors make every
+        # later reduction cheaper (measured; with FLINT's division by the whole list it
+        # costs more than it saves).  The degrees in each variable rule out most older
+        # elements first, since a division costs a pass over the dividend.
+        for a in state.active[:-1]:
+            if divides(lm_h, state.polys[a].degrees()):
+                state.polys[a] = state.polys[a] % h
 
 
 def _s_polynomial(state: _State, pair: _Pair):
@@ -282,16 +286,17 @@ def _select(state: _State) -> Optional[_Pair]:
 def _buchberger(polys: List) -> List:
     """A (not yet reduced) Gröbner basis of the nonzero, monic input."""
     key = order_key(ordering_name(polys[0].context()))
-    state = _State([], [], [], [], [], key)
+    state = _State([], [], [], [], [], key,
+                   tail_reduce=not ideal_division.Divisors(polys[:1]).native)
     for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
-        h = _reduce_by_lookup(f, state.polys, state.lookup)
+        h = _reduce(state, f)
         if not h.is_zero():
             _add_to_basis(state, monic(h), f.total_degree())
     while True:
         pair = _select(state)
         if pair is None:
             break
-        h = _reduce_by_lookup(_s_polynomial(state, pair), state.polys, state.lookup)
+        h = _reduce(state, _s_polynomial(state, pair))
         if h.is_zero():
             continue
         if h.is_constant():
@@ -306,6 +311,7 @@ def _inter_reduce(basis: List, key) -> List:
     lms = [leading_monomial(g) for g in basis]
     minimal = [g for t, g in enumerate(basis)
                if not any(divides(lms[s], lms[t]) for s in range(t))]
+    divisors = ideal_division.Divisors(minimal)
     lookup = _ReducerLookup([], [], {})
     for g in minimal:
         lookup.add(leading_monomial(g))
@@ -313,7 +319,9 @@ def _inter_reduce(basis: List, key) -> List:
     for g in minimal:
         # every tail term is below LM(g), so no reduction of the tail can call on g itself
         head = g.context().term(g.leading_coefficient(), leading_monomial(g))
-        out.append(monic(head + _reduce_by_lookup(g - head, minimal, lookup)))
+        tail = (divisors.remainder(g - head) if divisors.native
+                else _reduce_by_lookup(g - head, minimal, lookup))
+        out.append(monic(head + tail))
     return out
 
 

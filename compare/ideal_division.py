@@ -1,0 +1,211 @@
+"""Remainder on division by several polynomials at once, in one pass.
+
+python-flint wraps FLINT's division by one polynomial (`f % g`) but not FLINT's division by
+a list (`nmod_mpoly_divrem_ideal`, a heap-based division that reduces every term of f by
+the first divisor whose leading monomial divides it).  Repeating `%` instead costs a pass
+over f for every divisor used, and those passes are most of the time of a Gröbner basis
+computation (DEVELOPERS.md, "The Gröbner engine").  This module calls the FLINT function
+from the FLINT library that python-flint itself ships, through ctypes.
+
+Calling it needs the addresses of FLINT's structs inside python-flint's objects, which
+python-flint does not publish.  They are found at run time, and the call is made only when
+everything checks out: the polynomial object must hold its context's address right after a
+FLINT polynomial struct whose length field is the polynomial's length, the context object
+must hold the variable count and the modulus where FLINT's context layout puts them, and
+the routine must reproduce a worked normal form.  Otherwise — another python-flint or FLINT
+release, another Python, or RINGMATCH_PURE_DIVISION set in the environment —
+`Divisors.native` is false and `remainder` repeats `%` instead.  Both give a remainder none
+of whose terms is divisible by a divisor's leading monomial; for a Gröbner basis that is
+the normal form, so results never depend on which one ran.
+"""
+from __future__ import annotations
+
+import ctypes
+import glob
+import os
+import struct
+from typing import Dict, Optional, Sequence
+
+import flint
+
+_WORD = 8
+_POLY_STRUCT_WORDS = 6            # coeffs, exps, length, bits, coeffs_alloc, exps_alloc
+_LENGTH_FIELD = 2
+# mpoly_ctx_struct: nvars, nfields, (ord, deg), (rev), lut_words_per_exp[64],
+# lut_fix_bits[64 bytes]; the nmod_t modulus (n, ninv, norm) follows it.
+_CTX_MODULUS_AFTER_NVARS = 4 + 64 + 8
+
+DISABLE_VARIABLE = "RINGMATCH_PURE_DIVISION"
+
+
+def _object_words(obj) -> tuple:
+    raw = ctypes.string_at(id(obj), type(obj).__basicsize__)
+    return struct.unpack(f"{len(raw) // _WORD}Q", raw[: len(raw) // _WORD * _WORD])
+
+
+def _load_routine():
+    if struct.calcsize("P") != _WORD:
+        return None
+    libdir = os.path.join(os.path.dirname(os.path.dirname(flint.__file__)), "python_flint.libs")
+    for path in sorted(glob.glob(os.path.join(libdir, "libflint*.so*"))):
+        try:
+            routine = ctypes.CDLL(path).nmod_mpoly_divrem_ideal
+        except (OSError, AttributeError):
+            continue
+        routine.restype = None
+        routine.argtypes = [ctypes.c_void_p, ctypes.c_void_p, ctypes.c_void_p,
+                            ctypes.c_void_p, ctypes.c_long, ctypes.c_void_p]
+        return routine
+    return None
+
+
+def _poly_offset(ctx) -> Optional[int]:
+    """Byte offset of the FLINT polynomial struct inside python-flint's polynomial object."""
+    probes = [ctx.gen(0) + 1, ctx.gen(0) ** 3 + 2 * ctx.gen(0) + 5, ctx.constant(7)]
+    offsets = set()
+    for f in probes:
+        words = _object_words(f)
+        hits = [i for i, w in enumerate(words) if w == id(ctx)]
+        if len(hits) != 1 or hits[0] < _POLY_STRUCT_WORDS:
+            return None
+        start = hits[0] - _POLY_STRUCT_WORDS
+        if words[start + _LENGTH_FIELD] != len(f):
+            return None
+        offsets.add(start * _WORD)
+    return offsets.pop() if len(offsets) == 1 else None
+
+
+def _context_offset(ctx) -> Optional[int]:
+    """Byte offset of the FLINT context struct inside python-flint's context object: the
+    word holding the variable count, followed by the field count (one more for the graded
+    orders) and, after the lookup tables, the modulus and its normalisation shift."""
+    words = _object_words(ctx)
+    n, p = ctx.nvars(), ctx.modulus()
+    hits = [i for i in range(len(words) - _CTX_MODULUS_AFTER_NVARS - 2)
+            if words[i] == n and words[i + 1] in (n, n + 1)
+            and words[i + _CTX_MODULUS_AFTER_NVARS] == p
+            and words[i + _CTX_MODULUS_AFTER_NVARS + 2] == 8 * _WORD - p.bit_length()]
+    return hits[0] * _WORD if len(hits) == 1 else None
+
+
+_ROUTINE = None if os.environ.get(DISABLE_VARIABLE) else _load_routine()
+_LAYOUTS: Dict[int, Optional[tuple]] = {}     # id(ctx) -> (poly offset, ctx offset) or None
+_CONTEXTS: Dict[int, object] = {}              # keeps checked contexts alive (ids stay valid)
+
+
+def _layout(ctx) -> Optional[tuple]:
+    """(polynomial offset, context offset) when FLINT's routine may be called for ctx."""
+    if _ROUTINE is None or not isinstance(ctx, flint.nmod_mpoly_ctx) or not ctx.is_prime():
+        return None     # FLINT aborts the process on a leading coefficient it cannot invert
+    key = id(ctx)
+    if key not in _LAYOUTS:
+        layout = None
+        poly, context = _poly_offset(ctx), _context_offset(ctx)
+        if poly is not None and context is not None:
+            layout = (poly, context)
+            if not _worked_example(ctx, layout):
+                layout = None
+        _LAYOUTS[key] = layout
+        _CONTEXTS[key] = ctx
+    return _LAYOUTS[key]
+
+
+def _worked_example(ctx, layout) -> bool:
+    """Normal forms by hand: x^3 + x^2 + 1 by {x^2 − 2} is 2x + 3, and, with two variables,
+    x^2·y + y^3 + x by the Gröbner basis {x^2 − 1, y^2 − 3} is x + 4y."""
+    x = ctx.gen(0)
+    if _call(x ** 3 + x ** 2 + 1, [x ** 2 - 2], layout) != 2 * x + 3:
+        return False
+    if ctx.nvars() < 2:
+        return True
+    y = ctx.gen(1)
+    return _call(x ** 2 * y + y ** 3 + x, [x ** 2 - 1, y ** 2 - 3], layout) == x + 4 * y
+
+
+def _call(f, divisors: Sequence, layout):
+    poly_offset, ctx_offset = layout
+    ctx = f.context()
+    remainder = ctx.constant(0)
+    quotients = [ctx.constant(0) for _ in divisors]
+    quotient_array = (ctypes.c_void_p * len(divisors))(*[id(q) + poly_offset for q in quotients])
+    divisor_array = (ctypes.c_void_p * len(divisors))(*[id(g) + poly_offset for g in divisors])
+    _ROUTINE(quotient_array, id(remainder) + poly_offset, id(f) + poly_offset, divisor_array,
+             len(divisors), id(ctx) + ctx_offset)
+    return remainder
+
+
+class Divisors:
+    """A fixed list of divisors (nonzero, one context), ready for repeated division.
+
+    The pointer arrays and the scratch quotients are built once; the list must not change
+    while it is in use (build a new Divisors instead)."""
+
+    def __init__(self, polys: Sequence):
+        self.polys = list(polys)
+        ctx = self.polys[0].context() if self.polys else None
+        for g in self.polys:
+            if g.context() is not ctx:
+                raise ValueError("all polynomials must belong to the same nmod_mpoly context")
+            if g.is_zero():
+                raise ValueError("division by the zero polynomial")
+        self._layout = _layout(ctx) if ctx is not None else None
+        self.native = self._layout is not None
+        if self.native:
+            poly_offset = self._layout[0]
+            self._quotients = [ctx.constant(0) for _ in self.polys]
+            self._quotient_array = (ctypes.c_void_p * len(self.polys))(
+                *[id(q) + poly_offset for q in self._quotients])
+            self._divisor_array = (ctypes.c_void_p * len(self.polys))(
+                *[id(g) + poly_offset for g in self.polys])
+            self._ctx_address = id(ctx) + self._layout[1]
+
+    def remainder(self, f):
+        """A remainder of f none of whose terms is divisible by a divisor's leading monomial."""
+        if not self.polys or f.is_zero():
+            return f
+        if not self.native:
+            return _repeated_remainder(f, self.polys)
+        if f.context() is not self.polys[0].context():
+            raise ValueError("all polynomials must belong to the same nmod_mpoly context")
+        remainder = f.context().constant(0)
+        poly_offset = self._layout[0]
+        _ROUTINE(self._quotient_array, id(remainder) + poly_offset, id(f) + poly_offset,
+                 self._divisor_array, len(self.polys), self._ctx_address)
+        return remainder
+
+
+def _repeated_remainder(f, divisors: Sequence):
+    """The same remainder by python-flint's single-divisor division, repeated over the list
+    until a whole round changes nothing (a later division can bring back terms an earlier
+    divisor removed)."""
+    while True:
+        changed = False
+        for g in divisors:
+            if f.is_zero():
+                return f
+            r = f % g
+            if r != f:
+                f, changed = r, True
+        if not changed:
+            return f
+
+
+def remainder(f, divisors: Sequence):
+    """A remainder of f on division by `divisors` (see Divisors.remainder)."""
+    divisors = [g for g in divisors if not g.is_zero()]
+    return Divisors(divisors).remainder(f)
+
+
+def description(ctx) -> str:
+    """Which division runs for polynomials of ctx, for benchmark and diagnostic output."""
+    if _layout(ctx) is not None:
+        return "FLINT's division by the whole list (nmod_mpoly_divrem_ideal)"
+    if os.environ.get(DISABLE_VARIABLE):
+        reason = f"{DISABLE_VARIABLE} is set"
+    elif _ROUTINE is None:
+        reason = "FLINT routine not found"
+    elif not isinstance(ctx, flint.nmod_mpoly_ctx) or not ctx.is_prime():
+        reason = "not a polynomial ring over a prime field"
+    else:
+        reason = "python-flint's object layout not recognised"
+    return f"python-flint's division by one polynomial, repeated ({reason})"

@@ -1,0 +1,161 @@
+"""Division by several polynomials at once (compare/ideal_division.py).
+
+Two implementations must agree: FLINT's own division by a list, reached through ctypes, and
+python-flint's division by one polynomial repeated.  Both are checked against normal forms
+worked by hand and against SymPy's `reduced` (an independent implementation) modulo
+Gröbner bases, where the fully reduced remainder is unique; whole Gröbner bases computed
+through either must be the same.
+"""
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import flint
+import pytest
+import sympy
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from compare import algebra, groebner, ideal_division
+from presentations import whitney
+from presentations.flagtype import parse_flag
+from presentations.interface import build_specialised
+
+ROOT = Path(__file__).resolve().parent.parent
+P = algebra.DEFAULT_PRIME
+
+
+def context(names=("x", "y", "z"), modulus=P, ordering="degrevlex"):
+    return flint.nmod_mpoly_ctx.get(names, modulus=modulus, ordering=ordering)
+
+
+def test_flint_routine_is_used_with_the_pinned_python_flint():
+    # the layout checks are written against python-flint 0.9.0; a newer release may move
+    # things, and then the slower path runs (this test says so rather than failing)
+    divisors = ideal_division.Divisors([context().gen(0)])
+    if flint.__version__ != "0.9.0":
+        pytest.skip(f"python-flint {flint.__version__}: layout not checked against it")
+    assert divisors.native
+
+
+@pytest.mark.parametrize("forced_pure", [False, True])
+def test_normal_forms_by_hand(forced_pure, monkeypatch):
+    if forced_pure:
+        monkeypatch.setattr(ideal_division, "_ROUTINE", None)
+    ctx = context()
+    x, y, z = ctx.gens()
+    # {x^2 − 1, y^2 − 3, z − 2} is a Gröbner basis (pairwise coprime leading monomials)
+    basis = [x ** 2 - 1, y ** 2 - 3, z - 2]
+    divisors = ideal_division.Divisors(basis)
+    assert divisors.native is not forced_pure
+    assert divisors.remainder(x ** 3 * y ** 3 + z ** 2) == 3 * x * y + 4
+    assert divisors.remainder(x ** 2 * y ** 2 * z - 6) == 0
+    assert divisors.remainder(ctx.constant(0)) == 0
+    assert divisors.remainder(x + y) == x + y
+
+
+def test_composite_modulus_is_an_error_not_a_crash():
+    # FLINT's routine would abort the process on a non-invertible leading coefficient, so
+    # it is never called modulo a composite; python-flint's own division refuses politely
+    ctx = context(modulus=10)
+    x, y, _ = ctx.gens()
+    divisors = ideal_division.Divisors([x ** 2 - 1, y - 3])
+    assert not divisors.native
+    with pytest.raises(Exception, match="non-prime modulus"):
+        divisors.remainder(x ** 3 + y ** 2)
+
+
+def test_bad_divisors_are_errors():
+    ctx, other = context(), context(("u", "v"))
+    with pytest.raises(ValueError, match="zero polynomial"):
+        ideal_division.Divisors([ctx.gen(0), ctx.constant(0)])
+    with pytest.raises(ValueError, match="same nmod_mpoly context"):
+        ideal_division.Divisors([ctx.gen(0), other.gen(0)])
+    with pytest.raises(ValueError, match="same nmod_mpoly context"):
+        ideal_division.Divisors([ctx.gen(0)]).remainder(other.gen(0) + 1)
+
+
+def test_environment_variable_turns_the_flint_routine_off():
+    code = ("import flint; from compare import ideal_division as d; "
+            "ctx = flint.nmod_mpoly_ctx.get(('x',), modulus=101, ordering='lex'); "
+            "print(d.Divisors([ctx.gen(0)]).native)")
+    env = dict(os.environ, **{ideal_division.DISABLE_VARIABLE: "1"})
+    done = subprocess.run([sys.executable, "-c", code], cwd=ROOT, env=env, check=True,
+                          capture_output=True, text=True)
+    assert done.stdout.strip() == "False"
+
+
+def random_poly(ctx, data, terms, degree):
+    exps = data.draw(st.lists(st.tuples(*[st.integers(0, degree)] * ctx.nvars()),
+                              max_size=terms))
+    coeffs = data.draw(st.lists(st.integers(0, ctx.modulus() - 1),
+                                min_size=len(exps), max_size=len(exps)))
+    return ctx.from_dict(dict(zip(exps, coeffs))) if exps else ctx.constant(0)
+
+
+def sympy_normal_form(f, basis, ctx, ordering):
+    gens = sympy.symbols(ctx.names())
+    p = ctx.modulus()
+
+    def poly(g):
+        terms = {m: int(c) for m, c in zip(g.monoms(), g.coeffs())}
+        return sympy.Poly.from_dict(terms or {(0,) * len(gens): 0}, *gens, modulus=p)
+    _, r = sympy.reduced(poly(f), [poly(g) for g in basis], *gens, modulus=p,
+                         order={"degrevlex": "grevlex", "deglex": "grlex", "lex": "lex"}[ordering])
+    return {m: int(c) % p for m, c in r.terms() if int(c) % p}
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from(["degrevlex", "deglex", "lex"]), st.data())
+def test_both_divisions_give_sympys_normal_form_modulo_a_groebner_basis(ordering, data):
+    ctx = context(modulus=32003, ordering=ordering)
+    gens = ctx.gens()
+    polys = [g ** data.draw(st.integers(1, 3)) + random_poly(ctx, data, 3, 2) for g in gens]
+    polys += [random_poly(ctx, data, 4, 3) for _ in range(data.draw(st.integers(0, 2)))]
+    basis = groebner.groebner_basis(polys)
+    f = random_poly(ctx, data, 8, 5)
+    expected = sympy_normal_form(f, basis, ctx, ordering)
+    native = ideal_division.Divisors(basis).remainder(f)
+    pure = ideal_division._repeated_remainder(f, basis)
+    for r in (native, pure):
+        assert {m: int(c) for m, c in zip(r.monoms(), r.coeffs())} == expected
+
+
+def whitney_relations(case, plain=False):
+    flag = parse_flag(case)
+    spec = algebra.draw_specialisation(flag.n, flag.m, seed=11, equivariant=not plain)
+    return [r.poly for r in build_specialised(whitney.FAMILY, flag, spec,
+                                               ordering="degrevlex").relations]
+
+
+@pytest.mark.parametrize("case, plain", [("Gr(2,5)", False), ("Fl(1,3;5)", False),
+                                         ("Fl(4)", True), ("Gr(3,6)", True), ("Fl(5)", False)])
+def test_groebner_bases_do_not_depend_on_the_division(case, plain, monkeypatch):
+    relations = whitney_relations(case, plain)
+    through_flint = groebner.groebner_basis(relations)
+    monkeypatch.setattr(ideal_division, "_ROUTINE", None)
+    by_repeated_division = groebner.groebner_basis(relations)
+    assert through_flint == by_repeated_division
+    assert groebner.colength(through_flint) == parse_flag(case).rank
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from(["degrevlex", "deglex", "lex"]), st.data())
+def test_random_groebner_bases_do_not_depend_on_the_division(ordering, data):
+    # SymPy checks the bases of such ideals in tests/test_groebner.py (through FLINT's list
+    # division); here the repeated single-divisor division must give the same bases
+    ctx = context(("w", "x", "y", "z"), modulus=32003, ordering=ordering)
+    polys = [g ** data.draw(st.integers(1, 3)) + random_poly(ctx, data, 3, 2)
+             for g in ctx.gens()]
+    polys += [random_poly(ctx, data, 4, 3) for _ in range(data.draw(st.integers(0, 3)))]
+    through_flint = groebner.groebner_basis(polys)
+    saved = ideal_division._ROUTINE
+    ideal_division._ROUTINE = None
+    try:
+        by_repeated_division = groebner.groebner_basis(polys)
+    finally:
+        ideal_division._ROUTINE = saved
+    assert through_flint == by_repeated_division
