@@ -128,12 +128,13 @@ class _State:
 def _reduce(state: _State, f):
     """Fully reduced remainder of f by the basis so far.
 
-    The active elements' leading monomials generate the same monomial ideal as all
-    elements', so dividing by them alone leaves no reducible term.  FLINT's division by
-    the whole list is used where available (one pass; see compare/ideal_division.py), else
-    python-flint's division by one element at a time, steered by the lookup."""
+    FLINT's division by the whole list is used where available (one pass; see
+    compare/ideal_division.py), else python-flint's division by one element at a time,
+    steered by the lookup.  Either way the elements are tried oldest first, superseded ones
+    included: their leading monomials are the more specific ones, and on some lex examples
+    leaving them out makes intermediate elements grow without bound (tests/test_groebner.py)."""
     if state.divisors is None:
-        state.divisors = ideal_division.Divisors([state.polys[a] for a in state.active])
+        state.divisors = ideal_division.Divisors(state.polys)
     if state.divisors.native:
         return state.divisors.remainder(f)
     return _reduce_by_lookup(f, state.polys, state.lookup)
