@@ -120,97 +120,17 @@ class _State:
     key: Callable[[Monomial], tuple]
     queue: List = field(default_factory=list)   # heap of (sugar, lcm key, serial, pair)
     serial: Iterator[int] = field(default_factory=itertools.count)
-    lookup: "_ReducerLookup" = field(default_factory=lambda: _ReducerLookup([], [], {}))
-    divisors: Optional[ideal_division.Divisors] = None   # the active elements, while unchanged
+    divisors: ideal_division.Divisors = field(default_factory=ideal_division.Divisors)
     tail_reduce: bool = True
 
 
 def _reduce(state: _State, f):
     """Fully reduced remainder of f by the basis so far.
 
-    FLINT's division by the whole list is used where available (one pass; see
-    compare/ideal_division.py), else python-flint's division by one element at a time,
-    steered by the lookup.  Either way the elements are tried oldest first, superseded ones
-    included: their leading monomials are the more specific ones, and on some lex examples
-    leaving them out makes intermediate elements grow without bound (tests/test_groebner.py)."""
-    if state.divisors is None:
-        state.divisors = ideal_division.Divisors(state.polys)
-    if state.divisors.native:
-        return state.divisors.remainder(f)
-    return _reduce_by_lookup(f, state.polys, state.lookup)
-
-
-@dataclass
-class _ReducerLookup:
-    """Which element of a growing list of leading monomials divides a given monomial.
-
-    `found` maps a monomial to the index of a dividing LM, or to -(k + 1) when none of the
-    first k LMs divides it; the list only grows, so a hit stays valid and a miss needs
-    checking against the newer LMs only.  The support masks cheaply rule out most LMs."""
-    lms: List[Monomial]
-    masks: List[int]
-    found: Dict[Monomial, int]
-
-    def add(self, lm: Monomial) -> None:
-        self.lms.append(lm)
-        self.masks.append(_support_mask(lm))
-
-    def search(self, m: Monomial, start: int) -> int:
-        mask = _support_mask(m)
-        lms, masks = self.lms, self.masks
-        for k in range(start, len(lms)):
-            if not masks[k] & ~mask and all(x <= y for x, y in zip(lms[k], m)):
-                self.found[m] = k
-                return k
-        self.found[m] = -len(lms) - 1
-        return -1
-
-
-def _support_mask(e: Monomial) -> int:
-    mask = 0
-    for v, x in enumerate(e):
-        if x:
-            mask |= 1 << v
-    return mask
-
-
-def _reducer_of(m: Monomial, lookup: _ReducerLookup) -> int:
-    """Index of an element whose LM divides m, or -1."""
-    k = lookup.found.get(m)
-    if k is None:
-        return lookup.search(m, 0)
-    if k < 0 and k != -len(lookup.lms) - 1:
-        return lookup.search(m, -k - 1)
-    return k
-
-
-def _reduce_by_lookup(f, polys: Sequence, lookup: _ReducerLookup):
-    """Fully reduced remainder of f by `polys` (whose LMs are lookup.lms).
-
-    First the leading term alone is watched: reading one monomial is cheap, while listing
-    all of f's monomials costs more than a division, and an S-polynomial that reduces to
-    zero (most of them do) never needs more.  Once the leading term is irreducible, the tail is
-    reduced in rounds: each round reads the terms of f once and divides only by the
-    elements those terms ask for (`f % g` costs a pass over f even when LM(g) divides none
-    of its terms), until a round finds every term irreducible."""
-    while not f.is_zero():
-        k = _reducer_of(f.monomial(0), lookup)
-        if k < 0:
-            break
-        f = f % polys[k]
-    while not f.is_zero():
-        wanted: Dict[int, None] = {}     # insertion-ordered set
-        for m in f.monoms():
-            k = _reducer_of(m, lookup)
-            if k >= 0:
-                wanted[k] = None
-        if not wanted:
-            return f
-        for k in wanted:
-            f = f % polys[k]
-            if f.is_zero():
-                return f
-    return f
+    The elements are tried oldest first, superseded ones included: their leading
+    monomials are the more specific ones, and on some lex examples leaving them out makes
+    intermediate elements grow without bound (tests/test_ideal_division.py)."""
+    return state.divisors.remainder(f)
 
 
 def _pair_sugar(state: _State, i: int, j: int, l: Monomial) -> int:
@@ -225,8 +145,7 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     state.polys.append(h)
     state.lms.append(lm_h)
     state.sugars.append(sugar)
-    state.lookup.add(lm_h)
-    state.divisors = None
+    state.divisors.append(h)
 
     candidates = [(g, lcm(lm_h, state.lms[g])) for g in state.active]
     kept = []
@@ -265,6 +184,7 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
         for a in state.active[:-1]:
             if divides(lm_h, state.polys[a].degrees()):
                 state.polys[a] = state.polys[a] % h
+                state.divisors.replace(a, state.polys[a])
 
 
 def _s_polynomial(state: _State, pair: _Pair):
@@ -288,7 +208,7 @@ def _buchberger(polys: List) -> List:
     """A (not yet reduced) Gröbner basis of the nonzero, monic input."""
     key = order_key(ordering_name(polys[0].context()))
     state = _State([], [], [], [], [], key,
-                   tail_reduce=not ideal_division.Divisors(polys[:1]).native)
+                   tail_reduce=not ideal_division.available(polys[0].context()))
     for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
         h = _reduce(state, f)
         if not h.is_zero():
@@ -313,16 +233,11 @@ def _inter_reduce(basis: List, key) -> List:
     minimal = [g for t, g in enumerate(basis)
                if not any(divides(lms[s], lms[t]) for s in range(t))]
     divisors = ideal_division.Divisors(minimal)
-    lookup = _ReducerLookup([], [], {})
-    for g in minimal:
-        lookup.add(leading_monomial(g))
     out = []
     for g in minimal:
         # every tail term is below LM(g), so no reduction of the tail can call on g itself
         head = g.context().term(g.leading_coefficient(), leading_monomial(g))
-        tail = (divisors.remainder(g - head) if divisors.native
-                else _reduce_by_lookup(g - head, minimal, lookup))
-        out.append(monic(head + tail))
+        out.append(monic(head + divisors.remainder(g - head)))
     return out
 
 

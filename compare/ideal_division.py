@@ -14,7 +14,8 @@ FLINT polynomial struct whose length field is the polynomial's length, the conte
 must hold the variable count and the modulus where FLINT's context layout puts them, and
 the routine must reproduce a worked normal form.  Otherwise — another python-flint or FLINT
 release, another Python, or RINGMATCH_PURE_DIVISION set in the environment —
-`Divisors.native` is false and `remainder` repeats `%` instead.  Both give a remainder none
+`Divisors.native` is false and `remainder` repeats `%` instead, steered by a lookup of
+which divisor's leading monomial divides which monomial.  Both give a remainder none
 of whose terms is divisible by a divisor's leading monomial; for a Gröbner basis that is
 the normal form, so results never depend on which one ran.
 """
@@ -22,9 +23,11 @@ from __future__ import annotations
 
 import ctypes
 import glob
+import operator
 import os
 import struct
-from typing import Dict, Optional, Sequence
+from dataclasses import dataclass, field
+from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
@@ -134,66 +137,151 @@ def _call(f, divisors: Sequence, layout):
     return remainder
 
 
+@dataclass
+class _LeadingMonomials:
+    """Which of a growing list of leading monomials divides a given monomial (the first).
+
+    `found` maps a monomial to the index of a dividing LM, or to -(k + 1) when none of the
+    first k LMs divides it; the list only grows, so a hit stays valid and a miss needs
+    checking against the newer LMs only.  The support masks cheaply rule out most LMs."""
+    lms: List[Tuple[int, ...]] = field(default_factory=list)
+    masks: List[int] = field(default_factory=list)
+    found: Dict[Tuple[int, ...], int] = field(default_factory=dict)
+
+    def add(self, lm: Tuple[int, ...]) -> None:
+        self.lms.append(lm)
+        self.masks.append(_support_mask(lm))
+
+    def first_divisor(self, m: Tuple[int, ...]) -> int:
+        """Index of the first LM dividing m, or -1."""
+        k = self.found.get(m)
+        if k is None:
+            return self._search(m, 0)
+        if k < 0 and k != -len(self.lms) - 1:
+            return self._search(m, -k - 1)
+        return k
+
+    def _search(self, m: Tuple[int, ...], start: int) -> int:
+        mask = _support_mask(m)
+        lms, masks = self.lms, self.masks
+        for k in range(start, len(lms)):
+            if not masks[k] & ~mask and all(map(operator.le, lms[k], m)):
+                self.found[m] = k
+                return k
+        self.found[m] = -len(lms) - 1
+        return -1
+
+
+def _support_mask(e: Tuple[int, ...]) -> int:
+    mask = 0
+    for v, x in enumerate(e):
+        if x:
+            mask |= 1 << v
+    return mask
+
+
+def available(ctx) -> bool:
+    """Whether divisions of polynomials of ctx go through FLINT's routine."""
+    return _layout(ctx) is not None
+
+
 class Divisors:
-    """A fixed list of divisors (nonzero, one context), ready for repeated division.
+    """A list of divisors (nonzero, one context), tried oldest first, for repeated division.
 
-    The pointer arrays and the scratch quotients are built once; the list must not change
-    while it is in use (build a new Divisors instead)."""
+    The list may grow (`append`), and an element may be swapped for another with the same
+    leading monomial (`replace`, for a tail-reduced version); the address array FLINT reads
+    is rebuilt at the next division after a change."""
 
-    def __init__(self, polys: Sequence):
-        self.polys = list(polys)
-        ctx = self.polys[0].context() if self.polys else None
-        for g in self.polys:
-            if g.context() is not ctx:
-                raise ValueError("all polynomials must belong to the same nmod_mpoly context")
-            if g.is_zero():
-                raise ValueError("division by the zero polynomial")
-        self._layout = _layout(ctx) if ctx is not None else None
-        self.native = self._layout is not None
-        if self.native:
-            poly_offset = self._layout[0]
-            self._quotients = [ctx.constant(0) for _ in self.polys]
-            self._quotient_array = (ctypes.c_void_p * len(self.polys))(
-                *[id(q) + poly_offset for q in self._quotients])
-            self._divisor_array = (ctypes.c_void_p * len(self.polys))(
-                *[id(g) + poly_offset for g in self.polys])
-            self._ctx_address = id(ctx) + self._layout[1]
+    def __init__(self, polys: Sequence = ()):
+        self.polys: List = []
+        self._ctx = None
+        self._layout: Optional[tuple] = None
+        self._leading = _LeadingMonomials()
+        self._quotients: List = []
+        self._arrays: Optional[tuple] = None      # (divisor addresses, quotient addresses)
+        for g in polys:
+            self.append(g)
+
+    @property
+    def native(self) -> bool:
+        return self._layout is not None
+
+    def append(self, g) -> None:
+        self._admit(g)
+        self.polys.append(g)
+        self._leading.add(g.monomial(0))
+        self._arrays = None
+
+    def replace(self, index: int, g) -> None:
+        self._admit(g)
+        if g.monomial(0) != self._leading.lms[index]:
+            raise ValueError("a replacement must keep the leading monomial")
+        self.polys[index] = g
+        self._arrays = None
+
+    def _admit(self, g) -> None:
+        if self._ctx is None:
+            self._ctx = g.context()
+            self._layout = _layout(self._ctx)
+        elif g.context() is not self._ctx:
+            raise ValueError("all polynomials must belong to the same nmod_mpoly context")
+        if g.is_zero():
+            raise ValueError("division by the zero polynomial")
 
     def remainder(self, f):
         """A remainder of f none of whose terms is divisible by a divisor's leading monomial."""
         if not self.polys or f.is_zero():
             return f
-        if not self.native:
-            return _repeated_remainder(f, self.polys)
-        if f.context() is not self.polys[0].context():
+        if f.context() is not self._ctx:
             raise ValueError("all polynomials must belong to the same nmod_mpoly context")
-        remainder = f.context().constant(0)
-        poly_offset = self._layout[0]
-        _ROUTINE(self._quotient_array, id(remainder) + poly_offset, id(f) + poly_offset,
-                 self._divisor_array, len(self.polys), self._ctx_address)
+        if self._layout is None:
+            return self._steered_remainder(f)
+        poly_offset, ctx_offset = self._layout
+        if self._arrays is None:
+            while len(self._quotients) < len(self.polys):
+                self._quotients.append(self._ctx.constant(0))
+            count = len(self.polys)
+            self._arrays = (
+                (ctypes.c_void_p * count)(*[id(g) + poly_offset for g in self.polys]),
+                (ctypes.c_void_p * count)(*[id(q) + poly_offset for q in self._quotients]))
+        remainder = self._ctx.constant(0)
+        _ROUTINE(self._arrays[1], id(remainder) + poly_offset, id(f) + poly_offset,
+                 self._arrays[0], len(self.polys), id(self._ctx) + ctx_offset)
         return remainder
 
+    def _steered_remainder(self, f):
+        """The same by python-flint's division by one element, repeated.
 
-def _repeated_remainder(f, divisors: Sequence):
-    """The same remainder by python-flint's single-divisor division, repeated over the list
-    until a whole round changes nothing (a later division can bring back terms an earlier
-    divisor removed)."""
-    while True:
-        changed = False
-        for g in divisors:
-            if f.is_zero():
+        First the leading term alone is watched: reading one monomial is cheap, while
+        listing all of f's monomials costs more than a division, and a reduction to zero
+        (most of a Gröbner basis computation) never needs more.  Once the leading term is
+        irreducible, the tail is reduced in rounds: each round reads the terms of f once and
+        divides only by the elements those terms ask for (`f % g` costs a pass over f even
+        when LM(g) divides none of its terms), until a round finds every term irreducible."""
+        leading, polys = self._leading, self.polys
+        while not f.is_zero():
+            k = leading.first_divisor(f.monomial(0))
+            if k < 0:
+                break
+            f = f % polys[k]
+        while not f.is_zero():
+            wanted: Dict[int, None] = {}     # insertion-ordered set
+            for m in f.monoms():
+                k = leading.first_divisor(m)
+                if k >= 0:
+                    wanted[k] = None
+            if not wanted:
                 return f
-            r = f % g
-            if r != f:
-                f, changed = r, True
-        if not changed:
-            return f
+            for k in wanted:
+                f = f % polys[k]
+                if f.is_zero():
+                    return f
+        return f
 
 
 def remainder(f, divisors: Sequence):
     """A remainder of f on division by `divisors` (see Divisors.remainder)."""
-    divisors = [g for g in divisors if not g.is_zero()]
-    return Divisors(divisors).remainder(f)
+    return Divisors([g for g in divisors if not g.is_zero()]).remainder(f)
 
 
 def description(ctx) -> str:

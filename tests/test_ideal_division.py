@@ -78,6 +78,22 @@ def test_bad_divisors_are_errors():
         ideal_division.Divisors([ctx.gen(0)]).remainder(other.gen(0) + 1)
 
 
+@pytest.mark.parametrize("forced_pure", [False, True])
+def test_a_growing_list_of_divisors(forced_pure, monkeypatch):
+    if forced_pure:
+        monkeypatch.setattr(ideal_division, "_ROUTINE", None)
+    ctx = context()
+    x, y, z = ctx.gens()
+    divisors = ideal_division.Divisors([x ** 2 - y])
+    assert divisors.remainder(x ** 3) == x * y
+    divisors.append(y ** 2 - 1)
+    assert divisors.remainder(x ** 4) == 1
+    divisors.replace(0, x ** 2 - y + z)          # same leading monomial, new tail
+    assert divisors.remainder(x ** 2) == y - z
+    with pytest.raises(ValueError, match="keep the leading monomial"):
+        divisors.replace(1, z ** 3)
+
+
 def test_environment_variable_turns_the_flint_routine_off():
     code = ("import flint; from compare import ideal_division as d; "
             "ctx = flint.nmod_mpoly_ctx.get(('x',), modulus=101, ordering='lex'); "
@@ -122,7 +138,12 @@ def test_both_divisions_give_sympys_normal_form_modulo_a_groebner_basis(ordering
     f = random_poly(ctx, data, 8, 5)
     expected = sympy_normal_form(f, basis, ctx, ordering)
     native = ideal_division.Divisors(basis).remainder(f)
-    pure = ideal_division._repeated_remainder(f, basis)
+    saved = ideal_division._ROUTINE
+    ideal_division._ROUTINE = None
+    try:
+        pure = ideal_division.Divisors(basis).remainder(f)
+    finally:
+        ideal_division._ROUTINE = saved
     for r in (native, pure):
         assert {m: int(c) for m, c in zip(r.monoms(), r.coeffs())} == expected
 
