@@ -278,7 +278,8 @@ def _reduced_basis(polys: List) -> List:
     if echelon[0].is_constant():
         return echelon
     pivots = [leading_monomial(e).index(1) for e in echelon]
-    rest = [normal_form(f, echelon) for f in polys if f.total_degree() != 1]
+    by_echelon = ideal_division.Divisors(echelon)
+    rest = [by_echelon.remainder(f) for f in polys if f.total_degree() != 1]
     rest = [f for f in rest if not f.is_zero()]
     if any(f.is_constant() for f in rest):
         return [ctx.constant(1)]
@@ -289,7 +290,8 @@ def _reduced_basis(polys: List) -> List:
     if inner[0].is_constant():
         return [ctx.constant(1)]
     inner = [g.project_to_context(ctx) for g in inner]
-    echelon = [monic(normal_form(e, inner)) for e in echelon]
+    by_inner = ideal_division.Divisors(inner)
+    echelon = [monic(by_inner.remainder(e)) for e in echelon]
     return sorted(inner + echelon, key=lambda f: key(leading_monomial(f)))
 
 

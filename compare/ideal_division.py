@@ -209,12 +209,11 @@ class Divisors:
     def append(self, g) -> None:
         self._admit(g)
         self.polys.append(g)
-        self._leading.add(g.monomial(0))
         self._arrays = None
 
     def replace(self, index: int, g) -> None:
         self._admit(g)
-        if g.monomial(0) != self._leading.lms[index]:
+        if g.monomial(0) != self.polys[index].monomial(0):
             raise ValueError("a replacement must keep the leading monomial")
         self.polys[index] = g
         self._arrays = None
@@ -259,6 +258,8 @@ class Divisors:
         divides only by the elements those terms ask for (`f % g` costs a pass over f even
         when LM(g) divides none of its terms), until a round finds every term irreducible."""
         leading, polys = self._leading, self.polys
+        for g in polys[len(leading.lms):]:      # the lookup is only needed on this path
+            leading.add(g.monomial(0))
         while not f.is_zero():
             k = leading.first_divisor(f.monomial(0))
             if k < 0:
