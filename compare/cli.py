@@ -78,24 +78,21 @@ def int_list(option: str, text: str) -> List[int]:
         raise UsageError(f"{option} {text!r}: expected comma-separated integers") from None
 
 
-def positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"{value} must be at least 1")
-    return value
+def _int_at_least(minimum: int, requirement: str):
+    """An argparse type: an integer of at least `minimum`, else a one-line error."""
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+        if value < minimum:
+            raise argparse.ArgumentTypeError(f"{value} {requirement}")
+        return value
+    return parse
 
 
-def non_negative_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"{value} must not be negative")
-    return value
+positive_int = _int_at_least(1, "must be at least 1")
+non_negative_int = _int_at_least(0, "must not be negative")
 
 
 def prime_argument(text: str) -> int:
