@@ -126,14 +126,22 @@ def _worked_example(ctx, layout) -> bool:
 
 
 def _call(f, divisors: Sequence, layout):
+    quotients = [f.context().constant(0) for _ in divisors]
+    return _flint_remainder(f, _addresses(divisors, layout), _addresses(quotients, layout),
+                            len(divisors), layout)
+
+
+def _addresses(polys: Sequence, layout):
+    """The array of FLINT struct addresses of `polys` that the routine reads."""
+    return (ctypes.c_void_p * len(polys))(*[id(g) + layout[0] for g in polys])
+
+
+def _flint_remainder(f, divisor_addresses, quotient_addresses, count: int, layout):
     poly_offset, ctx_offset = layout
     ctx = f.context()
     remainder = ctx.constant(0)
-    quotients = [ctx.constant(0) for _ in divisors]
-    quotient_array = (ctypes.c_void_p * len(divisors))(*[id(q) + poly_offset for q in quotients])
-    divisor_array = (ctypes.c_void_p * len(divisors))(*[id(g) + poly_offset for g in divisors])
-    _ROUTINE(quotient_array, id(remainder) + poly_offset, id(f) + poly_offset, divisor_array,
-             len(divisors), id(ctx) + ctx_offset)
+    _ROUTINE(quotient_addresses, id(remainder) + poly_offset, id(f) + poly_offset,
+             divisor_addresses, count, id(ctx) + ctx_offset)
     return remainder
 
 
@@ -235,18 +243,12 @@ class Divisors:
             raise ValueError("all polynomials must belong to the same nmod_mpoly context")
         if self._layout is None:
             return self._steered_remainder(f)
-        poly_offset, ctx_offset = self._layout
         if self._arrays is None:
             while len(self._quotients) < len(self.polys):
                 self._quotients.append(self._ctx.constant(0))
-            count = len(self.polys)
-            self._arrays = (
-                (ctypes.c_void_p * count)(*[id(g) + poly_offset for g in self.polys]),
-                (ctypes.c_void_p * count)(*[id(q) + poly_offset for q in self._quotients]))
-        remainder = self._ctx.constant(0)
-        _ROUTINE(self._arrays[1], id(remainder) + poly_offset, id(f) + poly_offset,
-                 self._arrays[0], len(self.polys), id(self._ctx) + ctx_offset)
-        return remainder
+            self._arrays = (_addresses(self.polys, self._layout),
+                            _addresses(self._quotients, self._layout))
+        return _flint_remainder(f, *self._arrays, len(self.polys), self._layout)
 
     def _steered_remainder(self, f):
         """The same by python-flint's division by one element, repeated.
