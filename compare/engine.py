@@ -171,8 +171,8 @@ def localised_colength(basis: list, units: Sequence) -> int:
         product = product * unit
     size = len(monomials)
     matrix = flint.nmod_mat(size, size, ctx.modulus())
-    for column, monomial in enumerate(monomials):
-        image = groebner.normal_form(product * ctx.from_dict({monomial: 1}), basis)
+    images = groebner.normal_forms([product * ctx.from_dict({m: 1}) for m in monomials], basis)
+    for column, image in enumerate(images):
         for exponents, coefficient in image.terms():
             matrix[index[exponents], column] = int(coefficient)
     rank = matrix.rank()

@@ -93,6 +93,12 @@ def normal_form(f, basis: Sequence):
     return ideal_division.remainder(f, basis)
 
 
+def normal_forms(polys: Sequence, basis: Sequence) -> List:
+    """normal_form of each of `polys`, preparing the division by `basis` once."""
+    divisors = ideal_division.Divisors([g for g in basis if not g.is_zero()])
+    return [divisors.remainder(f) for f in polys]
+
+
 def is_member(f, basis: Sequence) -> bool:
     """Whether f lies in the ideal of which `basis` is a Gröbner basis."""
     return normal_form(f, basis).is_zero()

@@ -213,6 +213,14 @@ def test_linear_systems_by_hand(ctx):
     assert G.colength(basis) is None
 
 
+def test_normal_forms_of_many_polynomials(ctx):
+    x, y, z = ctx.gens()
+    basis = G.groebner_basis([x ** 2 - y, y ** 2 - 2, z - 1])
+    polys = [x ** 3, x * y * z, ctx.constant(0), x ** 4 - 2]
+    assert G.normal_forms(polys, basis) == [x * y, x * y, 0, 0]
+    assert G.normal_forms(polys, basis) == [G.normal_form(f, basis) for f in polys]
+
+
 def test_positive_dimensional_ideal(ctx):
     x, y, z = ctx.gens()
     basis = G.groebner_basis([x ** 2 - y, x * y - z])   # a curve: z is free
