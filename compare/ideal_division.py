@@ -131,9 +131,10 @@ def _call(f, divisors: Sequence, layout):
                             len(divisors), layout)
 
 
-def _addresses(polys: Sequence, layout):
-    """The array of FLINT struct addresses of `polys` that the routine reads."""
-    return (ctypes.c_void_p * len(polys))(*[id(g) + layout[0] for g in polys])
+def _addresses(polys: Sequence, layout, capacity: int = 0):
+    """The array of FLINT struct addresses of `polys` that the routine reads, with room
+    for `capacity` addresses in all."""
+    return (ctypes.c_void_p * max(capacity, len(polys)))(*[id(g) + layout[0] for g in polys])
 
 
 def _flint_remainder(f, divisor_addresses, quotient_addresses, count: int, layout):
@@ -197,8 +198,9 @@ class Divisors:
     """A list of divisors (nonzero, one context), tried oldest first, for repeated division.
 
     The list may grow (`append`), and an element may be swapped for another with the same
-    leading monomial (`replace`, for a tail-reduced version); the address array FLINT reads
-    is rebuilt at the next division after a change."""
+    leading monomial (`replace`, for a tail-reduced version).  The address arrays FLINT
+    reads are kept in step entry by entry, with room to grow: rebuilding them after every
+    new element cost more than a division on small cases."""
 
     def __init__(self, polys: Sequence = ()):
         self.polys: List = []
@@ -206,7 +208,8 @@ class Divisors:
         self._layout: Optional[tuple] = None
         self._leading = _LeadingMonomials()
         self._quotients: List = []
-        self._arrays: Optional[tuple] = None      # (divisor addresses, quotient addresses)
+        self._divisor_array = None
+        self._quotient_array = None
         for g in polys:
             self.append(g)
 
@@ -217,14 +220,26 @@ class Divisors:
     def append(self, g) -> None:
         self._admit(g)
         self.polys.append(g)
-        self._arrays = None
+        if self._layout is not None:
+            self._quotients.append(self._ctx.constant(0))
+            self._point_at(len(self.polys) - 1)
 
     def replace(self, index: int, g) -> None:
         self._admit(g)
         if g.monomial(0) != self.polys[index].monomial(0):
             raise ValueError("a replacement must keep the leading monomial")
         self.polys[index] = g
-        self._arrays = None
+        if self._layout is not None:
+            self._point_at(index)
+
+    def _point_at(self, index: int) -> None:
+        if self._divisor_array is None or index >= len(self._divisor_array):
+            capacity = 2 * len(self.polys) + 8
+            self._divisor_array = _addresses(self.polys, self._layout, capacity)
+            self._quotient_array = _addresses(self._quotients, self._layout, capacity)
+        else:
+            self._divisor_array[index] = id(self.polys[index]) + self._layout[0]
+            self._quotient_array[index] = id(self._quotients[index]) + self._layout[0]
 
     def _admit(self, g) -> None:
         if self._ctx is None:
@@ -235,22 +250,22 @@ class Divisors:
         if g.is_zero():
             raise ValueError("division by the zero polynomial")
 
-    def remainder(self, f):
-        """A remainder of f none of whose terms is divisible by a divisor's leading monomial."""
-        if not self.polys or f.is_zero():
+    def remainder(self, f, first: Optional[int] = None):
+        """A remainder of f none of whose terms is divisible by a divisor's leading monomial;
+        with `first`, by the first `first` divisors only."""
+        count = len(self.polys) if first is None else first
+        if not 0 <= count <= len(self.polys):
+            raise ValueError(f"cannot divide by the first {first} of {len(self.polys)} divisors")
+        if not count or f.is_zero():
             return f
         if f.context() is not self._ctx:
             raise ValueError("all polynomials must belong to the same nmod_mpoly context")
         if self._layout is None:
-            return self._steered_remainder(f)
-        if self._arrays is None:
-            while len(self._quotients) < len(self.polys):
-                self._quotients.append(self._ctx.constant(0))
-            self._arrays = (_addresses(self.polys, self._layout),
-                            _addresses(self._quotients, self._layout))
-        return _flint_remainder(f, *self._arrays, len(self.polys), self._layout)
+            return self._steered_remainder(f, count)
+        return _flint_remainder(f, self._divisor_array, self._quotient_array, count,
+                                self._layout)
 
-    def _steered_remainder(self, f):
+    def _steered_remainder(self, f, count: int):
         """The same by python-flint's division by one element, repeated.
 
         First the leading term alone is watched: reading one monomial is cheap, while
@@ -264,14 +279,14 @@ class Divisors:
             leading.add(g.monomial(0))
         while not f.is_zero():
             k = leading.first_divisor(f.monomial(0))
-            if k < 0:
+            if not 0 <= k < count:
                 break
             f = f % polys[k]
         while not f.is_zero():
             wanted: Dict[int, None] = {}     # insertion-ordered set
             for m in f.monoms():
                 k = leading.first_divisor(m)
-                if k >= 0:
+                if 0 <= k < count:
                     wanted[k] = None
             if not wanted:
                 return f

@@ -100,6 +100,34 @@ def test_a_growing_list_of_divisors(division_path):
         divisors.replace(1, z ** 3)
 
 
+def test_division_by_the_first_divisors_only(division_path):
+    ctx = context()
+    x, y, z = ctx.gens()
+    divisors = ideal_division.Divisors([x - 1, y - 2, z - 3])
+    f = x * y * z + x + z
+    assert divisors.remainder(f, first=3) == 6 + 1 + 3
+    assert divisors.remainder(f, first=2) == 2 * z + 1 + z     # z is not reduced
+    assert divisors.remainder(f, first=1) == y * z + 1 + z
+    assert divisors.remainder(f, first=0) == f
+    for bad in (-1, 4):
+        with pytest.raises(ValueError, match=f"first {bad} of 3 divisors"):
+            divisors.remainder(f, first=bad)
+
+
+def test_a_list_longer_than_the_first_address_arrays(division_path):
+    # the arrays FLINT reads start with room for a few divisors and grow; the remainders
+    # must not notice: x_i − i for 30 variables, then one tail changed afterwards
+    names = tuple(f"x{i}" for i in range(30))
+    ctx = context(names)
+    gens = ctx.gens()
+    divisors = ideal_division.Divisors()
+    for i, v in enumerate(gens):
+        divisors.append(v - i)
+        assert divisors.remainder(sum(gens[: i + 1], ctx.constant(0))) == i * (i + 1) // 2
+    divisors.replace(17, gens[17] - 100)
+    assert divisors.remainder(gens[17] * gens[29]) == 100 * 29
+
+
 def test_environment_variable_turns_the_flint_routine_off():
     code = ("import flint; from compare import ideal_division as d; "
             "ctx = flint.nmod_mpoly_ctx.get(('x',), modulus=101, ordering='lex'); "
