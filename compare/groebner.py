@@ -57,7 +57,7 @@ def order_key(ordering: str) -> Callable[[Monomial], tuple]:
     if ordering == "deglex":
         return lambda e: (sum(e), e)
     if ordering == "degrevlex":
-        return lambda e: (sum(e), tuple(-x for x in reversed(e)))
+        return lambda e: (sum(e), tuple(map(operator.neg, reversed(e))))
     raise ValueError(f"unsupported monomial ordering {ordering!r}")
 
 
@@ -118,16 +118,20 @@ class _Pair:
 
 @dataclass
 class _State:
-    polys: List            # every basis element ever added (monic); pairs index into it
-    lms: List[Monomial]
-    sugars: List[int]
-    active: List[int]      # indices whose LM is not a multiple of a later LM
-    pairs: List[_Pair]     # the live pairs, for the Gebauer–Möller filter
     key: Callable[[Monomial], tuple]
+    polys: List = field(default_factory=list)   # every element ever added (monic)
+    lms: List[Monomial] = field(default_factory=list)
+    degrees: List[int] = field(default_factory=list)    # total degrees of the LMs
+    excess: List[int] = field(default_factory=list)     # sugar minus degree of the LM
+    active: List[int] = field(default_factory=list)     # indices whose LM no later LM divides
+    pairs: List[_Pair] = field(default_factory=list)    # the live pairs, for the criteria
     queue: List = field(default_factory=list)   # heap of (sugar, lcm key, serial, pair)
     serial: Iterator[int] = field(default_factory=itertools.count)
     divisors: ideal_division.Divisors = field(default_factory=ideal_division.Divisors)
     tail_reduce: bool = True
+    # the multipliers of S-polynomials, built once each: most recur (85–90% of them on
+    # the Whitney ideals), and building a term costs more than the multiplication by it
+    multipliers: Dict[Monomial, object] = field(default_factory=dict)
 
 
 def _reduce(state: _State, f):
@@ -139,48 +143,58 @@ def _reduce(state: _State, f):
     return state.divisors.remainder(f)
 
 
-def _pair_sugar(state: _State, i: int, j: int, l: Monomial) -> int:
-    d = sum(l)
-    return max(state.sugars[i] - sum(state.lms[i]), state.sugars[j] - sum(state.lms[j])) + d
-
-
 def _add_to_basis(state: _State, h, sugar: int) -> None:
-    """Gebauer–Möller update (Becker–Weispfenning, Gröbner Bases, 1993, §5.5)."""
+    """Gebauer–Möller update (Becker–Weispfenning, Gröbner Bases, 1993, §5.5).
+
+    The monomial tests are written out with map() over operator functions rather than
+    calls of divides() and lcm(): on small cases this bookkeeping costs as much as the
+    polynomial arithmetic."""
+    le = operator.le
     k = len(state.polys)
-    lm_h = leading_monomial(h)
+    lm_h = h.monomial(0)
+    degree_h = sum(lm_h)
+    lms, degrees, excess = state.lms, state.degrees, state.excess
     state.polys.append(h)
-    state.lms.append(lm_h)
-    state.sugars.append(sugar)
+    lms.append(lm_h)
+    degrees.append(degree_h)
+    excess.append(sugar - degree_h)
     state.divisors.append(h)
 
-    candidates = [(g, lcm(lm_h, state.lms[g])) for g in state.active]
-    kept = []
-    for idx, (g, l) in enumerate(candidates):
-        if coprime(lm_h, state.lms[g]):
-            kept.append((g, l))
+    # Criteria M and F: a new pair goes if another new pair's lcm divides its lcm.  Taken
+    # by increasing degree, a pair need only be compared with the pairs kept so far (a
+    # discarded pair's lcm is a multiple of a kept one).  Pairs with coprime LMs (lcm of
+    # degree deg LM(g) + deg LM(h)) come first among equals, so that they rather than a
+    # pair that needs reducing survive a tie, and are dropped after the comparison
+    # (Buchberger's product criterion).
+    candidates = []
+    for g in state.active:
+        l = tuple(map(max, lm_h, lms[g]))
+        d = sum(l)
+        candidates.append((d, d != degree_h + degrees[g], g, l))
+    candidates.sort()
+    kept_lcms: List[Monomial] = []
+    new_pairs = []
+    for d, shares_a_variable, g, l in candidates:
+        if any(all(map(le, l2, l)) for l2 in kept_lcms):
             continue
-        others = candidates[idx + 1:] + kept
-        if not any(divides(l2, l) for _, l2 in others):
-            kept.append((g, l))
-    new_pairs = [_Pair(g, k, l, _pair_sugar(state, g, k, l))
-                 for g, l in kept if not coprime(lm_h, state.lms[g])]
+        kept_lcms.append(l)
+        if shares_a_variable:
+            new_pairs.append(_Pair(g, k, l, max(excess[g], excess[k]) + d))
 
-    def survives(p: _Pair) -> bool:
-        if not divides(lm_h, p.lcm):
-            return True
-        return lcm(state.lms[p.i], lm_h) == p.lcm or lcm(lm_h, state.lms[p.j]) == p.lcm
+    # Criterion B: an old pair goes if LM(h) divides its lcm strictly from both sides.
     kept_pairs = []
     for p in state.pairs:
         if not p.alive:         # already treated
             continue
-        if survives(p):
-            kept_pairs.append(p)
-        else:
+        if (all(map(le, lm_h, p.lcm)) and tuple(map(max, lms[p.i], lm_h)) != p.lcm
+                and tuple(map(max, lm_h, lms[p.j])) != p.lcm):
             p.alive = False     # left in the heap; skipped when popped
+        else:
+            kept_pairs.append(p)
     state.pairs = kept_pairs + new_pairs
     for p in new_pairs:
         heapq.heappush(state.queue, (p.sugar, state.key(p.lcm), next(state.serial), p))
-    state.active = [g for g in state.active if not divides(lm_h, state.lms[g])] + [k]
+    state.active = [g for g in state.active if not all(map(le, lm_h, lms[g]))] + [k]
     if state.tail_reduce:
         # Keep the older elements' tails reduced by h (LM(h) divides none of their LMs, so
         # only tails change): with one division per divisor, shorter divisors make every
@@ -194,10 +208,15 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
 
 
 def _s_polynomial(state: _State, pair: _Pair):
-    ctx = state.polys[pair.i].context()
-    left = ctx.term(1, quotient(pair.lcm, state.lms[pair.i])) * state.polys[pair.i]
-    right = ctx.term(1, quotient(pair.lcm, state.lms[pair.j])) * state.polys[pair.j]
-    return left - right
+    return (_multiplier(state, quotient(pair.lcm, state.lms[pair.i])) * state.polys[pair.i]
+            - _multiplier(state, quotient(pair.lcm, state.lms[pair.j])) * state.polys[pair.j])
+
+
+def _multiplier(state: _State, e: Monomial):
+    term = state.multipliers.get(e)
+    if term is None:
+        term = state.multipliers[e] = state.polys[0].context().term(1, e)
+    return term
 
 
 def _select(state: _State) -> Optional[_Pair]:
@@ -210,11 +229,14 @@ def _select(state: _State) -> Optional[_Pair]:
     return None
 
 
-def _buchberger(polys: List) -> List:
-    """A (not yet reduced) Gröbner basis of the nonzero, monic input."""
+def _buchberger(polys: List) -> List[Tuple[Monomial, object]]:
+    """A minimal, not yet reduced, Gröbner basis of the nonzero, monic input, as pairs
+    (leading monomial, element).
+
+    Minimal because every element enters fully reduced by the ones before it (so no
+    earlier LM divides its LM) and `active` drops the elements whose LM it divides."""
     key = order_key(ordering_name(polys[0].context()))
-    state = _State([], [], [], [], [], key,
-                   tail_reduce=not ideal_division.available(polys[0].context()))
+    state = _State(key, tail_reduce=not ideal_division.available(polys[0].context()))
     for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
         h = _reduce(state, f)
         if not h.is_zero():
@@ -227,24 +249,22 @@ def _buchberger(polys: List) -> List:
         if h.is_zero():
             continue
         if h.is_constant():
-            return [h.context().constant(1)]
+            one = h.context().constant(1)
+            return [(leading_monomial(one), one)]
         _add_to_basis(state, monic(h), pair.sugar)
-    return [state.polys[a] for a in state.active]
+    return [(state.lms[a], state.polys[a]) for a in state.active]
 
 
-def _inter_reduce(basis: List, key) -> List:
-    """Reduced Gröbner basis from a Gröbner basis: drop redundant elements, reduce tails."""
-    basis = sorted(basis, key=lambda f: key(leading_monomial(f)))
-    lms = [leading_monomial(g) for g in basis]
-    minimal = [g for t, g in enumerate(basis)
-               if not any(divides(lms[s], lms[t]) for s in range(t))]
+def _inter_reduce(basis: List[Tuple[Monomial, object]], key) -> List:
+    """The reduced Gröbner basis from a minimal one given as (leading monomial, element).
+
+    In ascending order of leading monomials, element t needs dividing by the elements
+    before it only: a tail term is below LM(g_t), so an LM dividing it is below LM(g_t)
+    too.  The remainder keeps LM(g_t), which no other LM of a minimal basis divides, and no
+    other term of it is divisible by any LM: it is the reduced basis element."""
+    minimal = [g for _, g in sorted(basis, key=lambda pair: key(pair[0]))]
     divisors = ideal_division.Divisors(minimal)
-    out = []
-    for g in minimal:
-        # every tail term is below LM(g), so no reduction of the tail can call on g itself
-        head = g.context().term(g.leading_coefficient(), leading_monomial(g))
-        out.append(monic(head + divisors.remainder(g - head)))
-    return out
+    return [monic(divisors.remainder(g, first=t)) for t, g in enumerate(minimal)]
 
 
 def groebner_basis(polys: Sequence) -> List:
@@ -292,10 +312,17 @@ def _reduced_basis(polys: List) -> List:
     if not rest:
         return echelon
     smaller = ctx.drop_gens(pivots)
-    inner = _reduced_basis([monic(f.project_to_context(smaller)) for f in rest])
+    # compose() with the generators is project_to_context() without its lookup of names,
+    # at half the cost; the pivots no longer occur in `rest`, so they may go to 0
+    kept = [v for v in range(ctx.nvars()) if v not in pivots]
+    down = [smaller.constant(0)] * ctx.nvars()
+    for w, v in enumerate(kept):
+        down[v] = smaller.gen(w)
+    inner = _reduced_basis([monic(f.compose(*down, ctx=smaller)) for f in rest])
     if inner[0].is_constant():
         return [ctx.constant(1)]
-    inner = [g.project_to_context(ctx) for g in inner]
+    up = [ctx.gen(v) for v in kept]
+    inner = [g.compose(*up, ctx=ctx) for g in inner]
     by_inner = ideal_division.Divisors(inner)
     echelon = [monic(by_inner.remainder(e)) for e in echelon]
     return sorted(inner + echelon, key=lambda f: key(leading_monomial(f)))
@@ -303,8 +330,8 @@ def _reduced_basis(polys: List) -> List:
 
 def _buchberger_reduced(polys: List, key) -> List:
     basis = _buchberger(polys)
-    if len(basis) == 1 and basis[0].is_constant():
-        return basis
+    if len(basis) == 1 and basis[0][1].is_constant():
+        return [basis[0][1]]
     return _inter_reduce(basis, key)
 
 
