@@ -143,7 +143,7 @@ def _add_to_basis(state: _State, h, sugar: int) -> None:
     polynomial arithmetic, and a function call adds about a fifth to each test."""
     le = operator.le
     k = len(state.polys)
-    lm_h = h.monomial(0)
+    lm_h = leading_monomial(h)
     degree_h = sum(lm_h)
     lms, degrees, excess = state.lms, state.degrees, state.excess
     state.polys.append(h)
@@ -221,13 +221,13 @@ def _select(state: _State) -> Optional[_Pair]:
     return None
 
 
-def _buchberger(polys: List) -> List[Tuple[Monomial, object]]:
+def _buchberger(polys: List, key: Callable[[Monomial], tuple]
+                ) -> List[Tuple[Monomial, object]]:
     """A minimal, not yet reduced, Gröbner basis of the nonzero, monic input, as pairs
     (leading monomial, element).
 
     Minimal because every element enters fully reduced by the ones before it (so no
     earlier LM divides its LM) and `active` drops the elements whose LM it divides."""
-    key = order_key(ordering_name(polys[0].context()))
     state = _State(key, tail_reduce=not ideal_division.available(polys[0].context()))
     for f in sorted(polys, key=lambda f: key(leading_monomial(f))):
         h = _reduce(state, f)
@@ -321,7 +321,7 @@ def _reduced_basis(polys: List) -> List:
 
 
 def _buchberger_reduced(polys: List, key) -> List:
-    basis = _buchberger(polys)
+    basis = _buchberger(polys, key)
     if len(basis) == 1 and basis[0][1].is_constant():
         return [basis[0][1]]
     return _inter_reduce(basis, key)
