@@ -145,6 +145,11 @@ def own_ideal(family: Family, flag: FlagType, spec: algebra.Specialisation) -> I
                  groebner.colength(basis))
 
 
+def own_ideal_method(units_inverted: bool) -> str:
+    """How a colength read off `own_ideal` was obtained, for the reports."""
+    return "Gröbner basis with each unit inverted" if units_inverted else "Gröbner basis"
+
+
 def without_unit_factors(poly, units: Sequence):
     """The polynomial with every factor it shares with a unit divided out; it generates the
     same ideal once the units are inverted.  (Common factors by gcd and exact division:
@@ -206,8 +211,7 @@ def colength_with_units(family: Family, flag: FlagType, spec: algebra.Specialisa
             return localised_colength(stripped, presentation.units), (
                 "Gröbner basis of the relations without unit factors, localised at the units "
                 "by the rank of a power of their multiplication matrix")
-    how = "Gröbner basis with each unit inverted" if presentation.units else "Gröbner basis"
-    return own_ideal(family, flag, spec).colength, how
+    return own_ideal(family, flag, spec).colength, own_ideal_method(bool(presentation.units))
 
 
 @dataclass
@@ -435,8 +439,7 @@ def groebner_reports(families: Sequence[Family], flag: FlagType,
             continue
         own[family.name] = own_ideal(family, flag, residues)
         report.colength = own[family.name].colength
-        report.colength_method = "Gröbner basis" + (
-            " with each unit inverted" if own[family.name].ring.extra else "")
+        report.colength_method = own_ideal_method(bool(own[family.name].ring.extra))
         moved[family.name] = transported_ideal(family, flag, residues, common, own[family.name])
         if moved[family.name] is not None and not moved[family.name].faithful:
             report.notes.append(
