@@ -14,9 +14,9 @@ import time
 
 from tabulate import tabulate
 
-from compare.engine import check_case
-from presentations import get_family
-from presentations.flagtype import FlagType
+from ringmatch.compare.engine import check_case
+from ringmatch.presentations import get_family
+from ringmatch.presentations.flagtype import FlagType
 
 FOUR_WAY = ("whitney", "vieta", "vieta-eliminated", "bethe")
 

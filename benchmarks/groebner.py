@@ -24,10 +24,10 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from compare import algebra, groebner, ideal_division  # noqa: E402
-from presentations import whitney  # noqa: E402
-from presentations.flagtype import parse_flag  # noqa: E402
-from presentations.interface import build_specialised  # noqa: E402
+from ringmatch.compare import algebra, groebner, ideal_division  # noqa: E402
+from ringmatch.presentations import whitney  # noqa: E402
+from ringmatch.presentations.flagtype import parse_flag  # noqa: E402
+from ringmatch.presentations.interface import build_specialised  # noqa: E402
 
 CASES = ["Gr(2,5)", "Gr(3,6)", "Fl(4)", "Fl(1,3;5)", "Gr(4,8)", "Fl(5)", "Gr(5,10)", "Fl(6)"]
 QUICK_CASES = 4

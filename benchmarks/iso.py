@@ -28,10 +28,10 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from compare import algebra, iso, points  # noqa: E402
-from compare.engine import own_ideal  # noqa: E402
-from presentations import FAMILIES  # noqa: E402
-from presentations.flagtype import FlagType, parse_flag  # noqa: E402
+from ringmatch.compare import algebra, iso, points  # noqa: E402
+from ringmatch.compare.engine import own_ideal  # noqa: E402
+from ringmatch.presentations import FAMILIES  # noqa: E402
+from ringmatch.presentations.flagtype import FlagType, parse_flag  # noqa: E402
 
 TARGET_CASES = [("Fl(1,3;6)", "vieta", "whitney"), ("Gr(3,7)", "vieta", "whitney")]
 MORE_CASES = [("Fl(4)", "toda", "whitney"), ("Gr(2,5)", "vieta-eliminated", "whitney"),

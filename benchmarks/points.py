@@ -30,11 +30,11 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from compare import algebra, points  # noqa: E402
-from compare import series as ps  # noqa: E402
-from presentations import whitney  # noqa: E402
-from presentations.flagtype import parse_flag  # noqa: E402
-from presentations.interface import build_series  # noqa: E402
+from ringmatch.compare import algebra, points  # noqa: E402
+from ringmatch.compare import series as ps  # noqa: E402
+from ringmatch.presentations import whitney  # noqa: E402
+from ringmatch.presentations.flagtype import parse_flag  # noqa: E402
+from ringmatch.presentations.interface import build_series  # noqa: E402
 
 CASES = ["Gr(2;4)", "Gr(2;5)", "Gr(3;6)", "Gr(3;7)", "Gr(4;8)", "Gr(4;9)", "Gr(5;10)",
          "Fl(3)", "Fl(4)", "Fl(5)", "Fl(6)", "Fl(7)"]

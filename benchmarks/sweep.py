@@ -28,7 +28,7 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from compare import algebra, sweep  # noqa: E402
+from ringmatch.compare import algebra, sweep  # noqa: E402
 
 
 def timed_sweep(flags, names, workers, folder: Path, label: str):

@@ -12,10 +12,10 @@ import os
 import sys
 from typing import List, Optional
 
-from presentations import FAMILIES, get_family
-from presentations.flagtype import FlagType, FlagTypeError, parse_flag
-from presentations.interface import PresentationError, build_symbolic
-from presentations.userfile import PresentationFileError
+from ringmatch.presentations import FAMILIES, get_family
+from ringmatch.presentations.flagtype import FlagType, FlagTypeError, parse_flag
+from ringmatch.presentations.interface import PresentationError, build_symbolic
+from ringmatch.presentations.userfile import PresentationFileError
 
 from . import algebra
 
@@ -128,7 +128,7 @@ def emit(args, result: dict, human: str) -> None:
 # Subcommands
 
 def cmd_relations(args) -> int:
-    from reports.formulas import presentation_text
+    from ringmatch.reports.formulas import presentation_text
     family = resolve_family(args.presentation)
     presentation = build_symbolic(family, args.case, equivariant=not args.plain)
     print(presentation_text(presentation, latex=args.latex))
@@ -136,7 +136,7 @@ def cmd_relations(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from reports.summary import check_text
+    from ringmatch.reports.summary import check_text
     from .engine import check_case
     families = [resolve_family(name) for name in args.presentations]
     if not args.plain and args.prime - 2 < args.case.n:
@@ -148,7 +148,7 @@ def cmd_check(args) -> int:
                         method=args.method)
     emit(args, result, check_text(result))
     if args.report is not None:
-        from reports.discrepancy import reproduce_command, write_report
+        from ringmatch.reports.discrepancy import reproduce_command, write_report
         command = reproduce_command(result, args.presentations, args.method)
         paths = write_report(result, args.report, command=command,
                              families={f.name: f for f in families})
@@ -157,7 +157,7 @@ def cmd_check(args) -> int:
 
 
 def cmd_presentations(args) -> int:
-    from presentations import plugins, userfile
+    from ringmatch.presentations import plugins, userfile
     if args.case_file is not None:
         family = resolve_family(args.of)
         print(userfile.case_file_text(family, args.case_file, equivariant=not args.plain), end="")
@@ -202,7 +202,7 @@ def cmd_points(args) -> int:
 
 def cmd_iso(args) -> int:
     from .iso import Bounds, IsoInputError, find_isomorphism
-    from reports.isomorphism import as_json, as_text
+    from ringmatch.reports.isomorphism import as_json, as_text
     if args.json and args.latex:
         raise UsageError("--json and --latex exclude each other")
     if args.prime < 2**40:
@@ -228,8 +228,8 @@ def _output_command(words: List[str]) -> str:
 
 
 def cmd_table(args) -> int:
-    from reports.frames import SourceError
-    from reports.tables import TableError, TableOptions, parse_columns, render
+    from ringmatch.reports.frames import SourceError
+    from ringmatch.reports.tables import TableError, TableOptions, parse_columns, render
     words = ["table", args.store, "--format", args.format]
     words += ["--columns", args.columns] if args.columns else []
     words += ["--group-by-n"] if args.group_by_n else []
@@ -250,8 +250,8 @@ def cmd_table(args) -> int:
 
 
 def cmd_figure(args) -> int:
-    from reports.figures import FigureError, agreement_map
-    from reports.frames import SourceError
+    from ringmatch.reports.figures import FigureError, agreement_map
+    from ringmatch.reports.frames import SourceError
     words = ["figure", args.store, "--out", args.out, "--layout", args.layout]
     try:
         path = agreement_map(args.store, args.out, layout=args.layout,
@@ -407,5 +407,5 @@ def main(argv: Optional[List[str]] = None) -> int:
 if __name__ == "__main__":
     # Run as compare.cli, not as __main__: subcommands import `UsageError` from compare.cli,
     # and under `python -m` a second copy of this module would not catch it.
-    from compare.cli import main as package_main
+    from ringmatch.compare.cli import main as package_main
     sys.exit(package_main())

@@ -39,7 +39,7 @@ def _fresh_store(path: Path) -> Path:
 
 
 def write_table(store_path: Path, target: Path) -> Path:
-    from reports.tables import render
+    from ringmatch.reports.tables import render
     target.write_text(render(str(store_path), "markdown"), encoding="utf-8")
     return target
 
@@ -47,7 +47,7 @@ def write_table(store_path: Path, target: Path) -> Path:
 def write_counterexample(result: dict, folder: Path) -> list:
     """The discrepancy report when reports/discrepancy.py provides one, else the JSON."""
     try:
-        from reports.discrepancy import write_report
+        from ringmatch.reports.discrepancy import write_report
     except ImportError:
         path = folder / "counterexample.json"
         path.write_text(json.dumps(result, indent=2) + "\n", encoding="utf-8")

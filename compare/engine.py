@@ -21,9 +21,9 @@ from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
-from presentations.flagtype import FlagType
-from presentations.interface import Family, build_specialised
-from presentations.vieta import det_S
+from ringmatch.presentations.flagtype import FlagType
+from ringmatch.presentations.interface import Family, build_specialised
+from ringmatch.presentations.vieta import det_S
 
 from . import algebra, groebner, points, transport
 
@@ -289,7 +289,7 @@ def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport
 
 
 def _formula(poly, names) -> str:
-    from reports.formulas import formula
+    from ringmatch.reports.formulas import formula
     return formula(poly, names, symmetric=True)
 
 

@@ -22,7 +22,7 @@ import operator
 from dataclasses import dataclass, field
 from typing import Callable, Dict, Iterator, List, Optional, Sequence, Tuple
 
-from compare import ideal_division
+from ringmatch.compare import ideal_division
 
 Monomial = Tuple[int, ...]
 

@@ -76,9 +76,9 @@ from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
-from presentations.flagtype import FlagType
-from presentations.interface import Family, Generator, PresentationError
-from presentations.meanings import Meaning
+from ringmatch.presentations.flagtype import FlagType
+from ringmatch.presentations.interface import Family, Generator, PresentationError
+from ringmatch.presentations.meanings import Meaning
 
 from . import algebra, groebner, points, reconstruct
 from . import series as ps

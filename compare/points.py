@@ -34,9 +34,9 @@ from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
-from presentations.flagtype import FixedPoint, FlagType
-from presentations.interface import Family, Generator, Presentation, build_series
-from presentations.meanings import Meaning, meaning_problem
+from ringmatch.presentations.flagtype import FixedPoint, FlagType
+from ringmatch.presentations.interface import Family, Generator, Presentation, build_series
+from ringmatch.presentations.meanings import Meaning, meaning_problem
 
 from . import algebra
 from . import series as ps

@@ -23,7 +23,7 @@ import sys
 from pathlib import Path
 from typing import List, Optional, Sequence
 
-from presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.flagtype import FlagType, parse_flag
 
 SCHEMA_VERSION = 1
 
@@ -83,7 +83,7 @@ def presentation_record(name: str) -> dict:
     """A presentation as the settings know it: built-in/plug-in names as such; files (paths
     and shipped file names) with the SHA-256 of their content, so an edited file never
     resumes from results of its earlier version."""
-    from presentations import FAMILIES, userfile
+    from ringmatch.presentations import FAMILIES, userfile
     path = None
     if userfile.looks_like_path(name):
         path = Path(name)

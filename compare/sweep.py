@@ -40,7 +40,7 @@ from multiprocessing.connection import wait as wait_for
 from pathlib import Path
 from typing import Callable, Dict, List, Optional, Sequence, Tuple
 
-from presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.flagtype import FlagType, parse_flag
 
 from . import store
 
@@ -115,7 +115,7 @@ class Source:
 
 
 def load_sources(names: Sequence[str]) -> List[Source]:
-    from presentations import FAMILIES, userfile
+    from ringmatch.presentations import FAMILIES, userfile
     sources = []
     for name in names:
         path = None
@@ -136,9 +136,9 @@ def load_sources(names: Sequence[str]) -> List[Source]:
 
 @lru_cache(maxsize=32)
 def family_of(source: Source):
-    from presentations import get_family
-    from presentations.userfile import family_from_spec
-    from presentations.userfile_container import read_bytes
+    from ringmatch.presentations import get_family
+    from ringmatch.presentations.userfile import family_from_spec
+    from ringmatch.presentations.userfile_container import read_bytes
     if source.raw is None:
         return get_family(source.name)
     return family_from_spec(read_bytes(source.raw, source.name))
@@ -236,8 +236,8 @@ def _silence_output() -> None:
 
 
 def child_main(writer, task: CaseTask, memory_mib: Optional[int]) -> None:
-    from presentations.interface import PresentationError
-    from presentations.userfile import PresentationFileError
+    from ringmatch.presentations.interface import PresentationError
+    from ringmatch.presentations.userfile import PresentationFileError
     signal.signal(signal.SIGINT, signal.SIG_IGN)   # the parent handles Ctrl-C and kills us
     _die_with_parent()
     _silence_output()
@@ -356,7 +356,7 @@ def _die_with_parent() -> None:
 
 # Imported once in the sweep's process so that forked workers start with them: otherwise
 # every case would pay for importing SymPy (used to print witnesses), about a second.
-PRELOAD = ("compare.engine", "reports.formulas", "reports.summary")
+PRELOAD = ("ringmatch.compare.engine", "ringmatch.reports.formulas", "ringmatch.reports.summary")
 
 
 def local_context():
@@ -432,7 +432,7 @@ def run_isolated(task: CaseTask, limits: Limits) -> Tuple[dict, float]:
     # forkserver, not fork: Dask runs tasks in threads, and forking a threaded process is
     # unsafe; the server process is started once and forks cleanly.
     context = multiprocessing.get_context("forkserver")
-    context.set_forkserver_preload(["compare.sweep", *PRELOAD])
+    context.set_forkserver_preload(["ringmatch.compare.sweep", *PRELOAD])
     job = start_case(context, 0, task, limits)
     remaining = None if job.deadline is None else max(0.0, job.deadline - time.monotonic())
     if wait_for([job.reader, job.process.sentinel], remaining):
@@ -681,7 +681,7 @@ def sweep_table(outcome: SweepOutcome, tablefmt: str = "simple") -> str:
 
 
 def witness_lines(result: dict) -> List[str]:
-    from reports.summary import witness_text
+    from ringmatch.reports.summary import witness_text
     lines = [f"{pair['a']} vs {pair['b']}: {pair['reason']}"
              for pair in result["pairs"] if pair["verdict"] == "disagree"]
     for pair in result["pairs"]:

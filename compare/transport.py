@@ -21,10 +21,10 @@ from __future__ import annotations
 
 from typing import Dict, List, Optional
 
-from presentations.flagtype import FlagType
-from presentations.interface import Presentation, Relation
-from presentations.meanings import Meaning, lambda_S_name
-from presentations.whitney import lambda_y_S
+from ringmatch.presentations.flagtype import FlagType
+from ringmatch.presentations.interface import Presentation, Relation
+from ringmatch.presentations.meanings import Meaning, lambda_S_name
+from ringmatch.presentations.whitney import lambda_y_S
 
 from . import algebra
 

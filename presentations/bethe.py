@@ -16,7 +16,7 @@ from __future__ import annotations
 import math
 from typing import List
 
-from compare import algebra
+from ringmatch.compare import algebra
 from .flagtype import FlagType
 from .interface import Family, Generator, Relation
 from .meanings import Meaning

@@ -22,7 +22,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Callable, List, Optional, Sequence, Tuple
 
-from compare import algebra
+from ringmatch.compare import algebra
 from .flagtype import FlagType
 from .meanings import Meaning
 

@@ -15,7 +15,7 @@ from __future__ import annotations
 import itertools
 from typing import List, Optional
 
-from compare import algebra
+from ringmatch.compare import algebra
 from .flagtype import FlagType
 from .interface import Family, Generator, Relation
 from .meanings import Meaning

@@ -25,8 +25,8 @@ from __future__ import annotations
 
 from typing import List
 
-from compare import algebra
-from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
+from ringmatch.compare import algebra
+from ringmatch.compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
 from .flagtype import FlagType
 from .interface import Family, Generator, Relation
 from .meanings import Meaning, lambda_S, lambda_S_name

@@ -12,8 +12,8 @@ from __future__ import annotations
 
 from typing import List
 
-from compare import algebra
-from compare.algebra import ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub, ypoly_add
+from ringmatch.compare import algebra
+from ringmatch.compare.algebra import ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub, ypoly_add
 from .flagtype import FlagType
 from .interface import Family, Generator, Relation
 from .meanings import lambda_Q, lambda_Q_name, lambda_S, lambda_S_name

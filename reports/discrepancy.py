@@ -71,7 +71,7 @@ def reproduce_command(result: dict, presentation_args: Optional[Iterable[str]] =
 
 
 def _unresolvable_names(names: Iterable[str]) -> list:
-    from presentations import get_family
+    from ringmatch.presentations import get_family
     missing = []
     for name in names:
         try:
@@ -106,12 +106,12 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
     check); `families` maps names to Family records for presentations that cannot be found
     by name (e.g. a family built in a script).  A presentation that cannot be rebuilt is
     left out and `report_record` says so."""
-    from presentations import get_family
-    from presentations.flagtype import parse_flag
-    from presentations.interface import build_symbolic
+    from ringmatch.presentations import get_family
+    from ringmatch.presentations.flagtype import parse_flag
+    from ringmatch.presentations.interface import build_symbolic
     import sympy
-    from reports.formulas import formula, to_sympy
-    from reports.tables import generator_latex
+    from ringmatch.reports.formulas import formula, to_sympy
+    from ringmatch.reports.tables import generator_latex
 
     flag = parse_flag(result["case"])
     out: Dict[str, Dict[str, dict]] = {}

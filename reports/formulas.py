@@ -10,7 +10,7 @@ from typing import Sequence
 
 import sympy
 
-from presentations.interface import Presentation
+from ringmatch.presentations.interface import Presentation
 
 
 @lru_cache(maxsize=None)

@@ -41,7 +41,7 @@ import json
 from pathlib import Path
 from typing import Iterable, List, Optional, Sequence, Union
 
-from presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.flagtype import FlagType, parse_flag
 
 Source = Union[str, Path, Sequence[dict]]
 
@@ -108,7 +108,7 @@ def _rows_from_store(path: Path) -> List[dict]:
     if header != b"SQLite format 3\x00":
         raise SourceError(f"{path}: neither a results store (SQLite) nor a .json file")
     try:
-        from compare.store import load_results
+        from ringmatch.compare.store import load_results
     except ImportError:
         raise SourceError(f"{path}: reading a results store needs compare.store, which "
                           "this installation lacks") from None

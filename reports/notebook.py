@@ -3,7 +3,7 @@
 Each record has `_repr_html_`, `_repr_latex_` and `_repr_markdown_`; nothing here imports
 IPython, so the module is as cheap to import in a script as in a notebook.
 
-    from reports.notebook import results_view, check_view, relations_view
+    from ringmatch.reports.notebook import results_view, check_view, relations_view
     results_view("runs.db")                 # the appendix table, as HTML
     check_view(result)                      # one `check_case` result with its witnesses
     relations_view("whitney", "Fl(3)")      # the relations in display math
@@ -113,9 +113,9 @@ class RelationsView:
     equivariant: bool = True
 
     def _built(self):
-        from presentations import get_family
-        from presentations.flagtype import parse_flag
-        from presentations.interface import build_symbolic
+        from ringmatch.presentations import get_family
+        from ringmatch.presentations.flagtype import parse_flag
+        from ringmatch.presentations.interface import build_symbolic
         family = get_family(self.presentation)
         return build_symbolic(family, parse_flag(self.case), equivariant=self.equivariant)
 

@@ -257,9 +257,9 @@ def relation_latex_lines(poly, names: Sequence[str], symbol_latex: Dict[str, str
 def _case_relations(row: dict, max_rank: int):
     """(presentation name, generators, [(label, lines)]) for each presentation of a small
     case that can be rebuilt by name; names that cannot are returned with None."""
-    from presentations import get_family
-    from presentations.flagtype import parse_flag
-    from presentations.interface import build_symbolic
+    from ringmatch.presentations import get_family
+    from ringmatch.presentations.flagtype import parse_flag
+    from ringmatch.presentations.interface import build_symbolic
     flag = parse_flag(row["case"])
     if flag.rank > max_rank:
         return []
@@ -340,7 +340,7 @@ class CaseIsomorphism:
 
 def finder_problem(family, flag) -> Optional[str]:
     """Why compare.iso cannot take this presentation's generators, or None."""
-    from compare import points
+    from ringmatch.compare import points
     reason = family.unsupported(flag)
     if reason:
         return f"no presentation for {flag.name}: {reason}"
@@ -369,10 +369,10 @@ def isomorphism_seed(row: dict) -> Tuple[int, str]:
 def case_isomorphism(row: dict, max_rank: int) -> Optional[CaseIsomorphism]:
     """Search the first two presentations of a small case that the finder can take; None for
     cases above max_rank or with fewer than two presentations."""
-    from compare.iso import IsoInputError, find_isomorphism
-    from presentations import get_family
-    from presentations.flagtype import parse_flag
-    from presentations.interface import PresentationError
+    from ringmatch.compare.iso import IsoInputError, find_isomorphism
+    from ringmatch.presentations import get_family
+    from ringmatch.presentations.flagtype import parse_flag
+    from ringmatch.presentations.interface import PresentationError
     flag = parse_flag(row["case"])
     names = list(row["presentations"])
     if flag.rank > max_rank or len(names) < 2:

@@ -5,9 +5,9 @@ that every part of ringmatch notices it.  Only the error differs from presentati
 """
 from dataclasses import replace
 
-from compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
-from presentations import whitney
-from presentations.interface import Family, Relation
+from ringmatch.compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
+from ringmatch.presentations import whitney
+from ringmatch.presentations.interface import Family, Relation
 
 
 def whitney_variant(sign=1, square_q=False, label_suffix=""):

@@ -18,12 +18,12 @@ import flint
 import pytest
 import sympy
 
-from compare import algebra, groebner, points
-from presentations import bethe, whitney
-from presentations.flagtype import parse_flag
-from presentations.interface import build_series, build_specialised
-from presentations.meanings import Meaning
-from reports.formulas import to_sympy
+from ringmatch.compare import algebra, groebner, points
+from ringmatch.presentations import bethe, whitney
+from ringmatch.presentations.flagtype import parse_flag
+from ringmatch.presentations.interface import build_series, build_specialised
+from ringmatch.presentations.meanings import Meaning
+from ringmatch.reports.formulas import to_sympy
 
 SMALL_PRIME = 32003
 

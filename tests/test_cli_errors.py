@@ -6,7 +6,7 @@ import pytest
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args],
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
                           capture_output=True, text=True, timeout=120)
 
 

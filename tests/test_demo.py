@@ -7,12 +7,12 @@ from pathlib import Path
 
 import sympy
 
-from compare import store, sweep
-from compare.engine import check_case
-from presentations import FAMILIES, get_family
-from presentations.flagtype import parse_flag
-from presentations.interface import build_symbolic
-from reports.formulas import to_sympy
+from ringmatch.compare import store, sweep
+from ringmatch.compare.engine import check_case
+from ringmatch.presentations import FAMILIES, get_family
+from ringmatch.presentations.flagtype import parse_flag
+from ringmatch.presentations.interface import build_symbolic
+from ringmatch.reports.formulas import to_sympy
 
 ROOT = Path(__file__).resolve().parent.parent
 CONJECTURE = "kestrel-conjecture"
@@ -72,7 +72,7 @@ def test_conjecture_is_wrong_beyond_the_first_counterexample_too():
 
 def test_demo_writes_the_report_and_tables_and_says_what_it_found(tmp_path):
     finished = subprocess.run(
-        [sys.executable, "-m", "compare.cli", "demo", "--out", str(tmp_path / "out"),
+        [sys.executable, "-m", "ringmatch.compare.cli", "demo", "--out", str(tmp_path / "out"),
          "--confirm-max-n", "3"], cwd=ROOT, capture_output=True, text=True, timeout=240)
     assert finished.returncode == 0, finished.stderr
     assert "4 flag types" in finished.stdout and "4 agree" in finished.stdout

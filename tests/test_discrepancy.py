@@ -18,11 +18,11 @@ import sys
 import pytest
 import sympy
 
-from compare.cli import main as cli_main
-from compare.engine import check_case
-from presentations import get_family, whitney
-from presentations.flagtype import parse_flag
-from reports.discrepancy import case_file_stem, report_record, write_report
+from ringmatch.compare.cli import main as cli_main
+from ringmatch.compare.engine import check_case
+from ringmatch.presentations import get_family, whitney
+from ringmatch.presentations.flagtype import parse_flag
+from ringmatch.reports.discrepancy import case_file_stem, report_record, write_report
 
 from broken_variants import flipped_q_sign
 
@@ -183,7 +183,7 @@ def test_file_names(case, equivariant, stem):
 
 
 def run_cli(*args, cwd=None):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args], capture_output=True,
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], capture_output=True,
                           text=True, timeout=120, cwd=cwd)
 
 

@@ -9,12 +9,12 @@ from dataclasses import replace
 import pytest
 import sympy
 
-from compare import algebra
-from compare.engine import check_case
-from presentations import get_family, whitney
-from presentations.flagtype import FlagType, parse_flag
-from presentations.interface import build_specialised
-from reports.formulas import to_sympy
+from ringmatch.compare import algebra
+from ringmatch.compare.engine import check_case
+from ringmatch.presentations import get_family, whitney
+from ringmatch.presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.interface import build_specialised
+from ringmatch.reports.formulas import to_sympy
 
 from broken_variants import whitney_variant
 
@@ -159,15 +159,15 @@ def test_q_mutant_fails_at_the_points_beyond_the_classical_order():
 
 
 def test_toda_is_refused_for_a_partial_flag():
-    from presentations.interface import PresentationError
+    from ringmatch.presentations.interface import PresentationError
     with pytest.raises(PresentationError):
         check_case(parse_flag("Gr(2,4)"), families("whitney", "toda"), seed=1)
 
 
 def test_localisation_by_linear_algebra_matches_inverse_variables():
     import flint
-    from compare import groebner
-    from compare.engine import localised_colength, own_ideal, without_unit_factors
+    from ringmatch.compare import groebner
+    from ringmatch.compare.engine import localised_colength, own_ideal, without_unit_factors
     # x^2 (x − 1)(x − 2) with x inverted keeps the two roots 1 and 2.
     ctx = flint.nmod_mpoly_ctx.get(("x", "y"), SMALL_PRIME, "degrevlex")
     x, y = ctx.gens()

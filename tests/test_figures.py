@@ -15,12 +15,12 @@ pytest.importorskip("matplotlib", reason="matplotlib is a dependency in pyprojec
                                          "install the project to draw figures")
 from PIL import Image  # noqa: E402  (matplotlib depends on Pillow)
 
-from compare.engine import check_case  # noqa: E402
-from presentations import get_family  # noqa: E402
-from presentations.flagtype import parse_flag  # noqa: E402
-from reports.figures import (VERDICT_STYLES, FigureError, agreement_map,  # noqa: E402
+from ringmatch.compare.engine import check_case  # noqa: E402
+from ringmatch.presentations import get_family  # noqa: E402
+from ringmatch.presentations.flagtype import parse_flag  # noqa: E402
+from ringmatch.reports.figures import (VERDICT_STYLES, FigureError, agreement_map,  # noqa: E402
                              choose_layout, marker_positions, stored_provenance)
-from reports.frames import frame_record, row_from_result  # noqa: E402
+from ringmatch.reports.frames import frame_record, row_from_result  # noqa: E402
 
 CASES = [("P1", ("whitney", "vieta"), "auto"), ("P2", ("whitney", "vieta"), "auto"),
          ("Gr(2;4)", ("whitney", "vieta"), "auto"),
@@ -148,13 +148,13 @@ def test_cli_figure(rows, tmp_path):
     source = tmp_path / "results.json"
     source.write_text(json.dumps([row["result"] for row in rows]))
     out = tmp_path / "agreement.png"
-    run = subprocess.run([sys.executable, "-m", "compare.cli", "figure", str(source),
+    run = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", "figure", str(source),
                           "--out", str(out)], capture_output=True, text=True, timeout=120)
     assert run.returncode == 0, run.stderr
     with Image.open(out) as image:
         assert image.size[0] == 990                            # 3.3 in at 300 dpi
     assert f"ringmatch figure {source}" in stored_provenance(out)
-    bad = subprocess.run([sys.executable, "-m", "compare.cli", "figure", str(source),
+    bad = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", "figure", str(source),
                           "--out", str(tmp_path / "x.jpg")], capture_output=True, text=True,
                          timeout=120)
     assert bad.returncode == 2 and len(bad.stderr.strip().splitlines()) == 1

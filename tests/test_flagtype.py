@@ -3,7 +3,7 @@ import math
 
 import pytest
 
-from presentations.flagtype import FlagType, FlagTypeError, parse_flag
+from ringmatch.presentations.flagtype import FlagType, FlagTypeError, parse_flag
 
 
 @pytest.mark.parametrize("text, dims, n", [

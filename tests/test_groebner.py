@@ -15,8 +15,8 @@ import sympy
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from compare import groebner as G
-from compare.algebra import DEFAULT_PRIME
+from ringmatch.compare import groebner as G
+from ringmatch.compare.algebra import DEFAULT_PRIME
 
 SMALL_PRIME = 32003
 SYMPY_ORDER = {"degrevlex": "grevlex", "deglex": "grlex", "lex": "lex"}

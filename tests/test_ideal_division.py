@@ -19,10 +19,10 @@ import sympy
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from compare import algebra, groebner, ideal_division
-from presentations import whitney
-from presentations.flagtype import parse_flag
-from presentations.interface import build_specialised
+from ringmatch.compare import algebra, groebner, ideal_division
+from ringmatch.presentations import whitney
+from ringmatch.presentations.flagtype import parse_flag
+from ringmatch.presentations.interface import build_specialised
 
 ROOT = Path(__file__).resolve().parent.parent
 P = algebra.DEFAULT_PRIME

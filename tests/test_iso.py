@@ -25,11 +25,11 @@ import sys
 import pytest
 import sympy
 
-from compare import algebra, groebner, iso
-from compare.engine import own_ideal
-from presentations import toda, vieta, whitney
-from presentations.flagtype import FlagType, parse_flag
-from reports.isomorphism import as_json, coefficient_expression, formula_expression
+from ringmatch.compare import algebra, groebner, iso
+from ringmatch.compare.engine import own_ideal
+from ringmatch.presentations import toda, vieta, whitney
+from ringmatch.presentations.flagtype import FlagType, parse_flag
+from ringmatch.reports.isomorphism import as_json, coefficient_expression, formula_expression
 
 from broken_variants import flipped_q_sign
 
@@ -190,7 +190,7 @@ def test_same_seed_same_answer():
 # Command line
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args],
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
                           capture_output=True, text=True, timeout=300)
 
 

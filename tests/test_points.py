@@ -21,12 +21,12 @@ import sys
 import pytest
 import sympy
 
-from compare import algebra, points
-from compare import series as ps
-from presentations import toda, whitney
-from presentations.flagtype import FlagType, parse_flag
-from presentations.interface import Family, Generator, build_series
-from presentations.meanings import Meaning, lambda_Q, lambda_S
+from ringmatch.compare import algebra, points
+from ringmatch.compare import series as ps
+from ringmatch.presentations import toda, whitney
+from ringmatch.presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.interface import Family, Generator, build_series
+from ringmatch.presentations.meanings import Meaning, lambda_Q, lambda_S
 
 from broken_variants import flipped_q_sign
 
@@ -326,7 +326,7 @@ def test_generators_that_do_not_separate_points_are_flagged():
 # Command line
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args],
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
                           capture_output=True, text=True, timeout=120)
 
 

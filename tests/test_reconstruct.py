@@ -23,7 +23,7 @@ from hypothesis import given, settings, strategies as st
 from sympy.ntheory.modular import crt as sympy_crt
 from sympy.utilities.iterables import partitions
 
-from compare import reconstruct
+from ringmatch.compare import reconstruct
 
 P = 4611686018427387847
 SMALL = 1000003

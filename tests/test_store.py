@@ -8,10 +8,10 @@ from pathlib import Path
 
 import pytest
 
-from compare import store
-from compare.engine import check_case
-from presentations import get_family
-from presentations.flagtype import parse_flag
+from ringmatch.compare import store
+from ringmatch.compare.engine import check_case
+from ringmatch.presentations import get_family
+from ringmatch.presentations.flagtype import parse_flag
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -106,7 +106,7 @@ def test_a_process_killed_inside_the_transaction_leaves_no_row(tmp_path, results
     conn.close()
     script = textwrap.dedent(f"""
         import os, signal, json
-        from compare import store
+        from ringmatch.compare import store
         conn = store.open_store({str(path)!r})
         settings = store.sweep_settings(["whitney", "vieta"])
         conn.execute("BEGIN")

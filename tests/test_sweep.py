@@ -12,14 +12,14 @@ from pathlib import Path
 
 import pytest
 
-from compare import store, sweep
-from presentations.flagtype import parse_flag
+from ringmatch.compare import store, sweep
+from ringmatch.presentations.flagtype import parse_flag
 
 ROOT = Path(__file__).resolve().parent.parent
 
 
 def ringmatch(*args, cwd=ROOT):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args], cwd=cwd,
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], cwd=cwd,
                           capture_output=True, text=True, timeout=240)
 
 
@@ -173,7 +173,7 @@ def test_sigkill_loses_nothing_finished_and_resume_recomputes_nothing(tmp_path):
     arguments = ["sweep", "--max-n", "4", "--presentations", "whitney,vieta,bethe",
                  "--workers", "1", "--json"]
     killed_store = tmp_path / "killed.db"
-    process = subprocess.Popen([sys.executable, "-m", "compare.cli", *arguments,
+    process = subprocess.Popen([sys.executable, "-m", "ringmatch.compare.cli", *arguments,
                                 "--store", str(killed_store)], cwd=ROOT,
                                stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     try:

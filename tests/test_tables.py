@@ -17,11 +17,11 @@ from importlib import metadata
 
 import pytest
 
-from compare.engine import check_case
-from presentations import get_family
-from presentations.flagtype import parse_flag
-from reports.frames import FRAME_COLUMNS, SourceError, load_rows, results_frame, row_from_result
-from reports.tables import (LONGTABLE_ROWS, TableError, TableOptions, build_table, csv_table,
+from ringmatch.compare.engine import check_case
+from ringmatch.presentations import get_family
+from ringmatch.presentations.flagtype import parse_flag
+from ringmatch.reports.frames import FRAME_COLUMNS, SourceError, load_rows, results_frame, row_from_result
+from ringmatch.reports.tables import (LONGTABLE_ROWS, TableError, TableOptions, build_table, csv_table,
                             latex_table, markdown_table, parse_columns, render)
 
 CASES = [("P2", ("whitney", "vieta"), "auto", 3),
@@ -200,7 +200,7 @@ def test_latex_fragment_compiles_inside_a_paper(rows, tmp_path):
 
 
 def run_cli(*args, cwd=None):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args], capture_output=True,
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], capture_output=True,
                           text=True, timeout=120, cwd=cwd)
 
 
@@ -229,7 +229,7 @@ def test_cli_table_errors(tmp_path, results_file, make, args, fragment):
 
 
 def test_notebook_records_render_without_ipython(rows):
-    from reports.notebook import check_view, relations_view, results_view
+    from ringmatch.reports.notebook import check_view, relations_view, results_view
     view = results_view(rows, columns=["case", "verdict"], group_by_n=True)
     page = view._repr_html_()
     assert page.count("<tr>") == 1 + 2 + 1 + 1    # two n-blocks: headers and three cases
@@ -249,7 +249,7 @@ def test_notebook_records_render_without_ipython(rows):
     assert relations.startswith(r"$$\begin{aligned}") and relations.count(r"\text{[level") == 3
 
     probe = subprocess.run([sys.executable, "-c", "import sys, reports.notebook, "
-                            "reports.tables, reports.frames, reports.figures; "
+                            "ringmatch.reports.tables, reports.frames, reports.figures; "
                             "print('IPython' in sys.modules, 'matplotlib' in sys.modules)"],
                            capture_output=True, text=True, timeout=60)
     assert probe.stdout.split() == ["False", "False"], probe.stderr
@@ -258,7 +258,7 @@ def test_notebook_records_render_without_ipython(rows):
 def test_through_a_real_store(rows, tmp_path):
     """The store written by the sweeps (compare.store), read back by tables and frames."""
     import inspect
-    store = pytest.importorskip("compare.store", reason="compare.store (the sweeps' results "
+    store = pytest.importorskip("ringmatch.compare.store", reason="ringmatch.compare.store (the sweeps' results "
                                 "store) is not in this tree yet")
     path = tmp_path / "runs.db"
     conn = store.open_store(path)
@@ -275,7 +275,7 @@ def test_through_a_real_store(rows, tmp_path):
             settings = store.sweep_settings(**{k: v for k, v in wanted.items()
                                                if k in parameters})
         except TypeError as error:
-            pytest.fail(f"compare.store.sweep_settings no longer takes the contract's "
+            pytest.fail(f"ringmatch.compare.store.sweep_settings no longer takes the contract's "
                         f"settings as keywords: {error}")
         store.save_result(conn, settings, result, row["seconds"])
     conn.close()
@@ -289,14 +289,14 @@ def test_through_a_real_store(rows, tmp_path):
     text = render(path, "csv", TableOptions(columns=("case", "verdict")))
     assert "Fl(3),disagree" in text and "# primes:" in text
     assert "# computed with: python" in text     # versions the store recorded per run
-    from reports.figures import agreement_map, stored_provenance
+    from ringmatch.reports.figures import agreement_map, stored_provenance
     figure = agreement_map(path, tmp_path / "map.png", dpi=50, command="ringmatch figure runs.db")
     assert "produced by: ringmatch figure runs.db" in stored_provenance(figure)
 
 
 def test_sqlite_file_that_is_not_a_store(tmp_path):
     import sqlite3
-    pytest.importorskip("compare.store", reason="compare.store is not in this tree yet")
+    pytest.importorskip("ringmatch.compare.store", reason="ringmatch.compare.store is not in this tree yet")
     path = tmp_path / "other.db"
     with sqlite3.connect(path) as conn:
         conn.execute("CREATE TABLE results (x INTEGER)")
@@ -317,7 +317,7 @@ ISO_CASES = [("P2", ("bethe", "whitney", "vieta"), 21),    # bethe: Chern roots,
 @pytest.fixture(scope="module")
 def iso_store(tmp_path_factory):
     """A sweeps' store (compare.store) holding real check results."""
-    store = pytest.importorskip("compare.store", reason="compare.store (the sweeps' results "
+    store = pytest.importorskip("ringmatch.compare.store", reason="ringmatch.compare.store (the sweeps' results "
                                 "store) is not in this tree yet")
     path = tmp_path_factory.mktemp("iso") / "runs.db"
     conn = store.open_store(path)

@@ -20,14 +20,14 @@ from pathlib import Path
 import pytest
 import sympy
 
-from compare import algebra
-from presentations import FAMILIES, get_family, plugins, userfile
-from presentations.flagtype import FlagType, parse_flag
-from presentations.interface import (Family, PresentationError, build_series, build_specialised,
+from ringmatch.compare import algebra
+from ringmatch.presentations import FAMILIES, get_family, plugins, userfile
+from ringmatch.presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.interface import (Family, PresentationError, build_series, build_specialised,
                                      build_symbolic)
-from presentations.meanings import Meaning
-from presentations.userfile import PresentationFileError, case_file_text, family_from_text
-from reports.formulas import to_sympy
+from ringmatch.presentations.meanings import Meaning
+from ringmatch.presentations.userfile import PresentationFileError, case_file_text, family_from_text
+from ringmatch.reports.formulas import to_sympy
 
 ROOT = Path(__file__).resolve().parent.parent
 FILES = ROOT / "presentations" / "files"
@@ -176,7 +176,7 @@ def test_wrong_conjecture_differs_from_whitney_as_an_ideal_at_fl3():
 def test_wrong_conjecture_is_found_disagree_by_check():
     """End to end through the comparison engine: `disagree` at Fl(1,2;3), the first case where
     the sign matters, with a witness naming the relation; `agree` at Gr(2;4)."""
-    pytest.importorskip("compare.engine", reason="the comparison engine is not installed")
+    pytest.importorskip("ringmatch.compare.engine", reason="the comparison engine is not installed")
     result = run_cli("check", "Fl(1,2;3)", "--presentations", "whitney,whitney-sign-error",
                      "--seed", "3", "--json")
     assert result.returncode == 0, result.stderr
@@ -605,7 +605,7 @@ def test_python_looking_text_is_only_ever_parsed():
 # Command line
 
 def run_cli(*args, env=None, cwd=ROOT):
-    return subprocess.run([sys.executable, "-m", "compare.cli", *args], capture_output=True,
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], capture_output=True,
                           text=True, timeout=300, env=env, cwd=cwd)
 
 
@@ -657,8 +657,8 @@ def test_cli_file_errors_are_one_line_exit_2(tmp_path, args_for, fragment):
 # Plug-ins
 
 PLUGIN_MODULE = '''
-from presentations import whitney
-from presentations.interface import Family
+from ringmatch.presentations import whitney
+from ringmatch.presentations.interface import Family
 from dataclasses import replace
 
 FAMILY = replace(whitney.FAMILY, name="whitney-plugin", description="Whitney, from a plug-in")

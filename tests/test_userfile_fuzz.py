@@ -17,11 +17,11 @@ from contextlib import contextmanager
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from compare import algebra
-from presentations import FAMILIES, userfile
-from presentations.flagtype import parse_flag
-from presentations.interface import build_specialised
-from presentations.userfile import PresentationFileError, family_from_text
+from ringmatch.compare import algebra
+from ringmatch.presentations import FAMILIES, userfile
+from ringmatch.presentations.flagtype import parse_flag
+from ringmatch.presentations.interface import build_specialised
+from ringmatch.presentations.userfile import PresentationFileError, family_from_text
 
 LABEL = "fuzz.toml"
 SMALL_CASES = [parse_flag(c) for c in ("Gr(1;2)", "Fl(1,2;3)", "Gr(2;4)", "Fl(1,3;4)", "Fl(4)")]

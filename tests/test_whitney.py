@@ -12,11 +12,11 @@ import random
 import pytest
 import sympy
 
-from compare import algebra
-from compare import groebner as G
-from presentations import whitney
-from presentations.flagtype import FlagType
-from presentations.interface import build_specialised
+from ringmatch.compare import algebra
+from ringmatch.compare import groebner as G
+from ringmatch.presentations import whitney
+from ringmatch.presentations.flagtype import FlagType
+from ringmatch.presentations.interface import build_specialised
 
 SMALL_PRIME = 32003
 SYMPY_ORDER = {"degrevlex": "grevlex", "lex": "lex"}
