@@ -27,9 +27,15 @@ def ensure_venv() -> None:
     project = HERE / "pyproject.toml"
     if STAMP.exists() and STAMP.stat().st_mtime >= project.stat().st_mtime:
         return
-    print("dev.py: installing ringmatch and its dependencies into .venv", flush=True)
-    subprocess.run([str(python_in_venv()), "-m", "pip", "install", "--quiet",
+    # pip's own lines (Collecting …, Installing collected packages: …) say what arrives;
+    # a silent install of this size looks like a hang.
+    print("dev.py: installing ringmatch and its dependencies into .venv (python-flint, "
+          "sympy, pandas, tabulate, matplotlib; pytest, hypothesis and dask for the tests); "
+          "the first time this takes a few minutes (about 2.5 on the project's machine)",
+          flush=True)
+    subprocess.run([str(python_in_venv()), "-m", "pip", "install", "--progress-bar", "off",
                     "--disable-pip-version-check", "-e", f"{HERE}[test]"], check=True)
+    print("dev.py: installed", flush=True)
     STAMP.touch()
 
 
