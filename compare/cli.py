@@ -267,6 +267,8 @@ def cmd_figure(args) -> int:
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="ringmatch",
                      description="Compare presentations of quantum K-theory rings of flag varieties.")
+    from ringmatch import __version__
+    parser.add_argument("--version", action="version", version=f"ringmatch {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
     p = sub.add_parser("relations", help="print the generators and relations of a presentation")
