@@ -173,9 +173,13 @@ SYMBOL_NOTES = (
     "parameters and q1…qm the Novikov variables.",
     "Normal forms are computed at the certificate's specialisation (T and q replaced by "
     "the residues listed there), in the presentations' common generators or else in the "
-    "common λ-class ring: coefficients are residues mod the prime, written in (−p/2, p/2]; "
-    "u1, u2, … are adjoined inverses of units (in the common λ-class ring: det S_1, …, "
-    "det S_m, then any further unit a presentation declares).",
+    "common λ-class ring: coefficients are residues mod the prime, written as the small "
+    "fraction they reduce from where there is one (numerator and denominator at most "
+    "(p/2)^(1/4)), else in (−p/2, p/2]; u1, u2, … are adjoined inverses of units (in the "
+    "common λ-class ring: det S_1, …, det S_m, then any further unit a presentation "
+    "declares).",
+    "Formulas are written in the expression grammar of presentation files "
+    "(docs/presentation-files.md), so they can be pasted into one.",
     "A relation that fails at the Bethe points is nonzero at the named torus-fixed point "
     "(chain I_1 ⊂ … ⊂ I_m) from the power s^k on, where q_i = c_i·s is the certificate's "
     "q line; k = 0 means it is already wrong classically (q = 0).",

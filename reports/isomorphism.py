@@ -70,7 +70,9 @@ def formula_expression(formula: GeneratorFormula, source_names: Sequence[str]) -
 
 
 def formula_text(formula: GeneratorFormula, source_names: Sequence[str]) -> str:
-    return sympy.sstr(formula_expression(formula, source_names))
+    """The formula in the presentation-file grammar, ready to paste into a file."""
+    from .formulas import input_text
+    return input_text(formula_expression(formula, source_names))
 
 
 def latex_name(name: str) -> str:

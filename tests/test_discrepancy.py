@@ -65,7 +65,7 @@ def label_position(label):
 
 
 def sympy_text(expr) -> str:
-    return sympy.sstr(sympy.expand(expr)) + " = 0"
+    return sympy.sstr(sympy.expand(expr)).replace("**", "^") + " = 0"   # file grammar
 
 
 @pytest.fixture(scope="module")
