@@ -109,9 +109,7 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
     from ringmatch.presentations import get_family
     from ringmatch.presentations.flagtype import parse_flag
     from ringmatch.presentations.interface import build_symbolic
-    import sympy
-    from ringmatch.reports.formulas import formula, to_sympy
-    from ringmatch.reports.tables import generator_latex
+    from ringmatch.reports.formulas import formula, relation_latex, symbols_latex
 
     flag = parse_flag(result["case"])
     out: Dict[str, Dict[str, dict]] = {}
@@ -125,11 +123,9 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
         presentation = build_symbolic(family, flag, equivariant=result["equivariant"])
         names = presentation.ring.ctx.names()
         # LaTeX shows generators by their meaning (λ_j(S_i), …), plain text by their names.
-        symbol_latex = {sympy.Symbol(g.name): generator_latex(g)
-                        for g in presentation.generators}
+        symbol_latex = symbols_latex(presentation.generators)
         out[name] = {r.label: {"text": formula(r.poly, names) + " = 0",
-                               "latex": sympy.latex(to_sympy(r.poly, names),
-                                                    symbol_names=symbol_latex) + " = 0"}
+                               "latex": relation_latex(r.poly, names, symbol_latex)}
                      for r in presentation.relations if r.label in labels}
     return out
 

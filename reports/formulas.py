@@ -10,9 +10,10 @@ mod p are read back as the small rational they stand for when there is one (`sma
 """
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 from math import isqrt
-from typing import Sequence
+from typing import Dict, List, Optional, Sequence
 
 import sympy
 
@@ -73,9 +74,107 @@ def input_text(expr: sympy.Expr) -> str:
     return sympy.sstr(expr).replace("**", "^")
 
 
-def formula(poly, names: Sequence[str], *, latex: bool = False, symmetric: bool = False) -> str:
+def formula(poly, names: Sequence[str], *, latex: bool = False, symmetric: bool = False,
+            symbol_latex: Optional[Dict[str, str]] = None) -> str:
+    """Plain text in the file grammar, or LaTeX with generators written by `symbol_latex`
+    (name → LaTeX, see `generator_latex`)."""
     expr = to_sympy(poly, names, symmetric=symmetric)
-    return sympy.latex(expr) if latex else input_text(expr)
+    if latex:
+        return latex_with_names(expr, symbol_latex or {})
+    return input_text(expr)
+
+
+# ---------------------------------------------------------------------------------------
+# LaTeX: one naming scheme for generators everywhere (relations, isomorphisms, tables,
+# reports): a generator is written as the class it stands for, so the same class has the
+# same symbol in every presentation and no legend is needed.
+
+_MEANING_LATEX = {"lambda_S": r"\lambda_{{{j}}}(S_{{{i}}})", "lambda_Q": r"\lambda_{{{j}}}(Q_{{{i}}})",
+                  "vieta_aux": r"e_{{{j}}}(Y^{{({i})}})", "toda_L": r"L_{{{i}}}",
+                  "root": r"X^{{({i})}}_{{{j}}}"}
+
+
+def generator_latex(generator) -> str:
+    m = generator.meaning
+    return _MEANING_LATEX[m.kind].format(i=m.level, j=m.index)
+
+
+def symbols_latex(generators) -> Dict[str, str]:
+    """{generator name: LaTeX} for `generator_latex` of each generator."""
+    return {g.name: generator_latex(g) for g in generators}
+
+
+def latex_with_names(expr: sympy.Expr, symbol_latex: Dict[str, str]) -> str:
+    names = {_symbol(k): v for k, v in symbol_latex.items()}
+    return sympy.latex(expr, symbol_names=names)
+
+
+def _terms(expr: sympy.Expr) -> List[sympy.Expr]:
+    if expr == 0:
+        return []
+    return sorted(sympy.Add.make_args(expr), key=sympy.default_sort_key)
+
+
+def split_one_minus_q(expr: sympy.Expr):
+    """(q, A, B) with expr = (1 − q)·A + B and B = expr at q = 1, for the Novikov variable q
+    that shortens the sum most; None when none does.
+
+    Quantum relations are deformations (1 − q)·(classical) + q·(correction); expanded, every
+    classical term appears twice, and the factored form is what papers print."""
+    best, length = None, len(_terms(expr))
+    novikov = sorted((s for s in expr.free_symbols if re.fullmatch(r"q\d+", s.name)),
+                     key=lambda s: s.name)
+    for q in novikov:
+        rest = sympy.expand(expr.subs(q, 1))
+        multiple = sympy.expand(sympy.quo(sympy.expand(expr - rest), 1 - q, q))
+        cost = len(_terms(multiple)) + len(_terms(rest))
+        if cost < length:
+            best, length = (q, multiple, rest), cost
+    return best
+
+
+def relation_latex_pieces(poly, names: Sequence[str], symbol_latex: Dict[str, str]) -> List[str]:
+    """The terms of `poly` in LaTeX, each with its sign (the first without a leading +),
+    with a factor (1 − q_i) taken out where that shortens the relation; a factored sum is
+    spread over several pieces (\\bigl( … \\bigr) may break across display lines)."""
+    expr = to_sympy(poly, names)
+    split = split_one_minus_q(expr)
+    if split is None:
+        rest, q, multiple = expr, None, sympy.Integer(0)
+    else:
+        q, multiple, rest = split
+
+    def signed(term) -> str:
+        text = latex_with_names(term, symbol_latex)
+        return text if text.startswith("-") else "+ " + text
+
+    pieces = [signed(t) for t in _terms(rest)]
+    if q is not None:
+        factor = r"\left(1 - " + sympy.latex(q) + r"\right)"
+        inner = _terms(multiple)
+        negative = inner[0].could_extract_minus_sign()
+        if negative:
+            inner = [-t for t in inner]
+        sign = "- " if negative else "+ "
+        if len(inner) == 1:
+            coefficient, monomial = inner[0].as_coeff_Mul()
+            lead = "" if coefficient == 1 else sympy.latex(coefficient) + " "
+            pieces.append(f"{sign}{lead}{factor} {latex_with_names(monomial, symbol_latex)}")
+        else:
+            body = [signed(t) for t in inner]
+            body[0] = body[0][2:] if body[0].startswith("+ ") else body[0]
+            body[0] = f"{sign}{factor} \\bigl({body[0]}"
+            body[-1] += r" \bigr)"
+            pieces += body
+    if not pieces:
+        return ["0"]
+    if pieces[0].startswith("+ "):
+        pieces[0] = pieces[0][2:]
+    return pieces
+
+
+def relation_latex(poly, names: Sequence[str], symbol_latex: Dict[str, str]) -> str:
+    return " ".join(relation_latex_pieces(poly, names, symbol_latex)) + " = 0"
 
 
 def presentation_text(presentation: Presentation, *, latex: bool = False) -> str:
@@ -86,10 +185,14 @@ def presentation_text(presentation: Presentation, *, latex: bool = False) -> str
              "", "generators:"]
     for g in presentation.generators:
         lines.append(f"  {g.name:<8} = {g.meaning.pretty}   (weight {g.weight})")
+    symbol_latex = symbols_latex(presentation.generators)
     lines += ["", f"relations ({len(presentation.relations)}):"]
     for r in presentation.relations:
-        lines.append(f"  [{r.label}]  {formula(r.poly, names, latex=latex)} = 0")
+        text = relation_latex(r.poly, names, symbol_latex) if latex \
+            else formula(r.poly, names) + " = 0"
+        lines.append(f"  [{r.label}]  {text}")
     if presentation.units:
         lines += ["", "units (inverted):"]
-        lines += [f"  {formula(u, names, latex=latex)}" for u in presentation.units]
+        lines += [f"  {formula(u, names, latex=latex, symbol_latex=symbol_latex)}"
+                  for u in presentation.units]
     return "\n".join(lines)

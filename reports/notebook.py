@@ -120,9 +120,10 @@ class RelationsView:
         return build_symbolic(family, parse_flag(self.case), equivariant=self.equivariant)
 
     def _repr_latex_(self) -> str:
-        from .tables import generator_latex, label_latex, relation_latex_lines
+        from .formulas import symbols_latex
+        from .tables import label_latex, relation_latex_lines
         built = self._built()
-        symbol_latex = {g.name: generator_latex(g) for g in built.generators}
+        symbol_latex = symbols_latex(built.generators)
         names = built.ring.ctx.names()
         rows = []
         for r in built.relations:

@@ -18,6 +18,7 @@ from typing import Callable, Dict, List, Optional, Sequence, Tuple
 from . import provenance as prov
 from .frames import Source, frame_record, load_rows
 
+from .formulas import generator_latex, relation_latex_pieces
 FORMATS = ("latex", "csv", "markdown")
 # Above this many rows a LaTeX table no longer fits on one page: it becomes a longtable.
 LONGTABLE_ROWS = 30
@@ -223,32 +224,11 @@ def latex_document(fragment: str, *, long: bool, relations: bool) -> str:
 # ---------------------------------------------------------------------------------------
 # Relations of small cases
 
-_MEANING_LATEX = {"lambda_S": r"\lambda_{{{j}}}(S_{{{i}}})", "lambda_Q": r"\lambda_{{{j}}}(Q_{{{i}}})",
-                  "vieta_aux": r"e_{{{j}}}(Y^{{({i})}})", "toda_L": r"L_{{{i}}}",
-                  "root": r"X^{{({i})}}_{{{j}}}"}
-
-
-def generator_latex(generator) -> str:
-    m = generator.meaning
-    return _MEANING_LATEX[m.kind].format(i=m.level, j=m.index)
-
-
 def relation_latex_lines(poly, names: Sequence[str], symbol_latex: Dict[str, str],
                          terms_per_line: int = 4) -> List[str]:
     """The relation `poly = 0` as display lines of a few terms each (long sums would run
-    off the page)."""
-    import sympy
-    from .formulas import to_sympy
-    symbols = {sympy.Symbol(k): v for k, v in symbol_latex.items()}
-    expr = to_sympy(poly, names)
-    terms = sympy.Add.make_args(expr) if expr != 0 else (sympy.Integer(0),)
-    terms = sorted(terms, key=sympy.default_sort_key)
-    pieces = []
-    for index, term in enumerate(terms):
-        text = sympy.latex(term, symbol_names=symbols)
-        if index and not text.startswith("-"):
-            text = "+ " + text
-        pieces.append(text)
+    off the page), (1 − q_i) factored out where that shortens it."""
+    pieces = relation_latex_pieces(poly, names, symbol_latex)
     lines = [" ".join(pieces[k:k + terms_per_line]) for k in range(0, len(pieces), terms_per_line)]
     lines[-1] += " = 0"
     return lines

@@ -144,11 +144,11 @@ def test_relations_of_small_cases_in_display_math(rows):
     assert r"\paragraph{P2, whitney}" in text and r"\paragraph{Fl(3), whitney-sign-error}" in text
     assert "Gr(2;4)" in text   # rank 6 is small enough
     # det S · det Q = (1 − q) T_1 T_2 T_3 in QK_T(P^2) (arXiv:2208.01091): the top Whitney
-    # relation of P2, here λ_1(S_1) λ_2(Q_1) − T1T2T3 + T1T2T3 q1 = 0.
+    # relation of P2, printed with (1 − q_1) factored out as in the identity itself.
     top = [line for line in text.splitlines() if "level 1, $y^{3}$" in line and
            r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1})" in line]
     assert top and top[0].rstrip(" \\").endswith(
-        r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1}) - T_{1} T_{2} T_{3} + T_{1} T_{2} T_{3} q_{1} = 0")
+        r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1}) - \left(1 - q_{1}\right) T_{1} T_{2} T_{3} = 0")
 
 
 def tex_engine():
@@ -241,8 +241,10 @@ def test_notebook_records_render_without_ipython(rows):
     assert "whitney-sign-error" in disagreement._repr_html_()
     latex = disagreement._repr_latex_()
     assert latex.startswith("$$") and "level 2, $y^{2}$" in latex
-    # the slipped sign: + λ_1(Q_2) λ_1(S_1) q_2 (the published relation has −)
-    assert r"\lambda_{1}(Q_{2}) \lambda_{1}(S_{1}) q_{2}" in latex and "Q_{2 1}" not in latex
+    # the slipped sign: + λ_1(Q_2) λ_1(S_1) outside the factor 1 − q_2 (the published
+    # relation, arXiv:2310.03826, has − there)
+    assert r"&& \lambda_{1}(Q_{2}) \lambda_{1}(S_{1}) + \lambda_{1}(Q_{2}) \lambda_{1}(S_{2})" \
+        in latex and "Q_{2 1}" not in latex
     assert check_view(rows[0]["result"])._repr_latex_() is None   # nothing failed
 
     relations = relations_view("whitney", "P2")._repr_latex_()
