@@ -19,9 +19,22 @@ from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
+from ringmatch.errors import InputError
+
 # The largest prime below 2^62: word-size for every nmod type of python-flint, with
 # headroom so that no intermediate of FLINT's nmod arithmetic needs special handling.
 DEFAULT_PRIME = 4611686018427387847
+
+
+def check_prime(prime) -> int:
+    """`prime` itself when it is an integer prime p with 3 ≤ p < 2^63 (one machine word, as
+    FLINT's nmod types need); otherwise InputError, one line naming the value.  The one
+    check of a user-supplied prime: the command line and the components call it alike."""
+    if isinstance(prime, bool) or not isinstance(prime, int) or prime < 3 or prime >= 2**63 \
+            or not flint.fmpz(prime).is_prime():
+        raise InputError(f"{prime!r} is not a prime with 3 ≤ p < 2^63")
+    return prime
+
 
 YPoly = List  # coefficients in y, lowest first
 

@@ -1,8 +1,9 @@
 """The `ringmatch` command line.
 
 Every subcommand is a small function `cmd_<name>(args) -> int` registered in `build_parser`.
-Bad input raises `UsageError` (or one of the domain errors listed in `USER_ERRORS`); `main`
-turns it into a one-line message on stderr and exit status 2, never a traceback.
+Bad input raises `UsageError` or another `ringmatch.errors.RingmatchError` (every error class
+of the package derives from it); `main` turns it into a one-line message on stderr and exit
+status 2, never a traceback.
 """
 from __future__ import annotations
 
@@ -12,6 +13,7 @@ import os
 import sys
 from typing import List, Optional
 
+from ringmatch.errors import InputError, RingmatchError, UsageError
 from ringmatch.presentations import FAMILIES, get_family
 from ringmatch.presentations.flagtype import FlagType, FlagTypeError, parse_flag
 from ringmatch.presentations.interface import PresentationError, build_symbolic
@@ -20,11 +22,8 @@ from ringmatch.presentations.userfile import PresentationFileError
 from . import algebra
 
 
-class UsageError(ValueError):
-    """Bad input from the user: reported in one line, exit status 2."""
-
-
-USER_ERRORS = (UsageError, FlagTypeError, PresentationError, PresentationFileError)
+# The old name of what `main` catches, kept for callers; every error class derives from it now.
+USER_ERRORS = (RingmatchError,)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -100,10 +99,10 @@ def prime_argument(text: str) -> int:
         p = int(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
-    import flint
-    if p < 3 or p >= 2**63 or not flint.fmpz(p).is_prime():
-        raise argparse.ArgumentTypeError(f"{p} is not a prime with 3 ≤ p < 2^63")
-    return p
+    try:
+        return algebra.check_prime(p)
+    except InputError as error:   # argparse would replace our message by a generic one
+        raise argparse.ArgumentTypeError(str(error)) from None
 
 
 def report_directory_usable(directory: str) -> None:
@@ -290,7 +289,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="truncation order N of the Bethe points (relations checked mod s^N)")
     p.add_argument("--trials", type=positive_int, default=1,
                    help="independent primes/specialisations; all must agree")
-    p.add_argument("--method", choices=["auto", "groebner", "points", "both"], default="auto",
+    from .engine import METHODS
+    p.add_argument("--method", choices=METHODS, default="auto",
                    help="auto: Gröbner bases up to colength 150, Bethe points always")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--report", metavar="DIR",
@@ -372,12 +372,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--latex", action="store_true", help="formulas in LaTeX")
     p.set_defaults(run=cmd_iso)
 
-    from . import demo, sweep
+    from . import demo, sweep_command
     p = sub.add_parser("sweep", help="compare presentations on every flag type up to a size: "
                                      "stored, resumable, parallel, first counterexample")
-    sweep.add_arguments(p, presentation_list=presentation_list, prime_argument=prime_argument,
-                        positive_int=positive_int)
-    p.set_defaults(run=sweep.command)
+    sweep_command.add_arguments(p, presentation_list=presentation_list,
+                                prime_argument=prime_argument, positive_int=positive_int)
+    p.set_defaults(run=sweep_command.command)
 
     p = sub.add_parser("demo", help="an invented scenario: established presentations agree, "
                                     "a conjecture's first counterexample is found and reported")
@@ -394,7 +394,7 @@ def main(argv: Optional[List[str]] = None) -> int:
             parser.print_help()
             return 2
         return args.run(args)
-    except USER_ERRORS as error:
+    except RingmatchError as error:
         print(f"ringmatch: {error}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
@@ -407,7 +407,6 @@ def main(argv: Optional[List[str]] = None) -> int:
 
 
 if __name__ == "__main__":
-    # Run as compare.cli, not as __main__: subcommands import `UsageError` from compare.cli,
-    # and under `python -m` a second copy of this module would not catch it.
+    # Run the package module, not this __main__ copy, so that there is one copy of its state.
     from ringmatch.compare.cli import main as package_main
     sys.exit(package_main())

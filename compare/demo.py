@@ -17,6 +17,8 @@ import json
 import os
 from pathlib import Path
 
+from ringmatch.reports import sweeps as sweep_text
+
 from . import sweep
 
 ESTABLISHED = ["whitney", "vieta", "bethe"]
@@ -91,7 +93,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
                     if v in counts))
     if counts.get("agree") != len(plan.flags):
         say("  not every case agrees; see the table below")
-        say(sweep.sweep_table(confirmed))
+        say(sweep_text.sweep_table(confirmed))
 
     say(f"\nStep 2: where does {CONJECTURE} first differ from whitney (n ≤ {search_max_n}, "
         "smallest case first)?")
@@ -115,7 +117,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
         say(f"  it agrees with whitney on the {len(agreed)} cases before it in sweep order "
             f"({agreed[0]} … {agreed[-1]}) and first fails at {first} "
             f"({searched.wall:.1f} s):" if agreed else f"  it first fails at {first}:")
-        for line in sweep.witness_lines(searched.results[first]):
+        for line in sweep_text.witness_lines(searched.results[first]):
             say("    " + line)
         written = write_counterexample(searched.results[first], folder) + written
     written += [confirm_store, search_store]
@@ -143,7 +145,7 @@ def add_arguments(parser, *, positive_int) -> None:
 
 
 def command(args) -> int:
-    from .cli import UsageError
+    from ringmatch.errors import UsageError
     if args.confirm_max_n < 2:
         raise UsageError(f"--confirm-max-n {args.confirm_max_n}: must be at least 2")
     try:

@@ -23,16 +23,17 @@ from dataclasses import dataclass, field
 from typing import Callable, Dict, Iterator, List, Optional, Sequence, Tuple
 
 from ringmatch.compare import ideal_division
+from ringmatch.errors import ResourceError, RingmatchError
 
 Monomial = Tuple[int, ...]
 
 
-class NotZeroDimensional(ValueError):
+class NotZeroDimensional(RingmatchError, ValueError):
     """The quotient ring is infinite-dimensional: some variable has no pure power among
     the leading monomials."""
 
 
-class LimitExceeded(ValueError):
+class LimitExceeded(ResourceError, ValueError):
     """More standard monomials than the caller allowed."""
 
 

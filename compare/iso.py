@@ -76,6 +76,7 @@ from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
+from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType
 from ringmatch.presentations.interface import Family, Generator, PresentationError
 from ringmatch.presentations.meanings import Meaning
@@ -89,7 +90,7 @@ PADE_SLACK = 2            # series coefficients a Padé form must explain beyond
 GROEBNER_RANK_LIMIT = 150
 
 
-class IsoInputError(ValueError):
+class IsoInputError(InputError):
     """The request cannot be run as asked (reported to the user in one line)."""
 
 

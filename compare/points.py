@@ -34,6 +34,7 @@ from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
+from ringmatch.errors import RingmatchError
 from ringmatch.presentations.flagtype import FixedPoint, FlagType
 from ringmatch.presentations.interface import Family, Generator, Presentation, build_series
 from ringmatch.presentations.meanings import Meaning, meaning_problem
@@ -43,7 +44,7 @@ from . import series as ps
 from .series import Series
 
 
-class LiftError(ArithmeticError):
+class LiftError(RingmatchError, ArithmeticError):
     """The fixed points cannot be lifted (or a lifted point failed its final check)."""
 
 

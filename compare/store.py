@@ -23,6 +23,7 @@ import sys
 from pathlib import Path
 from typing import List, Optional, Sequence
 
+from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType, parse_flag
 
 SCHEMA_VERSION = 1
@@ -49,7 +50,7 @@ CREATE TABLE IF NOT EXISTS results (
 """
 
 
-class StoreError(sqlite3.DatabaseError):
+class StoreError(InputError, sqlite3.DatabaseError):
     """The file is not a results store this version can read, or cannot be opened."""
 
 

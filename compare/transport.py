@@ -24,7 +24,7 @@ from typing import Dict, List, Optional
 from ringmatch.presentations.flagtype import FlagType
 from ringmatch.presentations.interface import Presentation, Relation
 from ringmatch.presentations.meanings import Meaning, lambda_S_name
-from ringmatch.presentations.whitney import lambda_y_S
+from ringmatch.presentations.lambda_classes import lambda_y_S
 
 from . import algebra
 

@@ -12,10 +12,12 @@ import re
 from dataclasses import dataclass
 from typing import Iterator, Tuple
 
+from ringmatch.errors import InputError
+
 FixedPoint = Tuple[Tuple[int, ...], ...]
 
 
-class FlagTypeError(ValueError):
+class FlagTypeError(InputError):
     """A case name that does not describe a flag variety."""
 
 

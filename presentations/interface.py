@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from typing import Callable, List, Optional, Sequence, Tuple
 
 from ringmatch.compare import algebra
+from ringmatch.errors import InputError
 from .flagtype import FlagType
 from .meanings import Meaning
 
@@ -40,7 +41,7 @@ class Relation:
     poly: object
 
 
-class PresentationError(ValueError):
+class PresentationError(InputError):
     """A family cannot build anything for the requested flag type."""
 
 

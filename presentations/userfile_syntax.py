@@ -13,6 +13,8 @@ import bisect
 from dataclasses import dataclass
 from typing import List, NoReturn, Optional, Sequence, Tuple, Union
 
+from ringmatch.errors import InputError
+
 MAX_EXPRESSION_CHARS = 20_000
 MAX_TOKENS = 5_000
 MAX_DEPTH = 48               # nesting of parentheses, signs, powers, sums, …
@@ -29,7 +31,7 @@ _OPERATORS = "+-*/^(){}[],=:_"
 _ALIASES = {"\u2212": "-", "\u00b7": "*", "\u00d7": "*", "\u22c5": "*"}
 
 
-class PresentationFileError(ValueError):
+class PresentationFileError(InputError):
     """Anything wrong with a presentation file; str() is one line `file:line:col: message`."""
 
     def __init__(self, message: str, file: str = "<text>", line: Optional[int] = None,

@@ -29,8 +29,8 @@ from ringmatch.compare import algebra
 from ringmatch.compare.algebra import ypoly_add, ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub
 from .flagtype import FlagType
 from .interface import Family, Generator, Relation
+from .lambda_classes import det_S, lambda_y_S   # noqa: F401  (det_S: also imported from here)
 from .meanings import Meaning, lambda_S, lambda_S_name
-from .whitney import lambda_y_S
 
 
 def aux_name(i: int, j: int) -> str:
@@ -40,10 +40,6 @@ def aux_name(i: int, j: int) -> str:
 def _lambda_S_generators(flag: FlagType) -> List[Generator]:
     return [Generator(lambda_S_name(i, j), lambda_S(i, j), j)
             for i in range(1, flag.m + 1) for j in range(1, flag.k(i) + 1)]
-
-
-def det_S(flag: FlagType, ring: algebra.Ring, i: int):
-    return lambda_y_S(flag, ring, i)[flag.k(i)]
 
 
 def cleared_N(flag: FlagType, ring: algebra.Ring, i: int) -> algebra.YPoly:

@@ -16,6 +16,7 @@ from ringmatch.compare import algebra
 from ringmatch.compare.algebra import ypoly_mul, ypoly_scale, ypoly_shift, ypoly_sub, ypoly_add
 from .flagtype import FlagType
 from .interface import Family, Generator, Relation
+from .lambda_classes import lambda_y_S   # noqa: F401  (also imported from here by older code)
 from .meanings import lambda_Q, lambda_Q_name, lambda_S, lambda_S_name
 
 
@@ -25,15 +26,6 @@ def generators(flag: FlagType) -> List[Generator]:
         gens += [Generator(lambda_S_name(i, j), lambda_S(i, j), j) for j in range(1, flag.k(i) + 1)]
         gens += [Generator(lambda_Q_name(i, j), lambda_Q(i, j), j) for j in range(1, flag.d(i) + 1)]
     return gens
-
-
-def lambda_y_S(flag: FlagType, ring: algebra.Ring, i: int) -> algebra.YPoly:
-    """λ_y(S_i) in the ring's λ(S) generators; S_0 = 0 and S_{m+1} = C^n with weights T."""
-    if i == 0:
-        return [ring.one]
-    if i == flag.m + 1:
-        return algebra.elementary_symmetric(ring.T, ring.one)
-    return [ring.one] + [ring.gen[lambda_S_name(i, j)] for j in range(1, flag.k(i) + 1)]
 
 
 def relations(flag: FlagType, ring: algebra.Ring) -> List[Relation]:

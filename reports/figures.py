@@ -23,6 +23,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Dict, List, Optional, Sequence, Tuple
 
+from ringmatch.errors import InputError
+
 from . import provenance as prov
 from .frames import Source, frame_record, load_rows
 
@@ -45,7 +47,7 @@ VERDICT_STYLES: Dict[str, VerdictStyle] = {
 }
 
 
-class FigureError(ValueError):
+class FigureError(InputError):
     """A figure request that cannot be met (format, layout, nothing to draw)."""
 
 

@@ -41,6 +41,7 @@ import json
 from pathlib import Path
 from typing import Iterable, List, Optional, Sequence, Union
 
+from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType, parse_flag
 
 Source = Union[str, Path, Sequence[dict]]
@@ -50,7 +51,7 @@ FRAME_COLUMNS = ("case", "n", "dims", "steps", "m", "kind", "rank", "equivariant
                  "certificate", "prime", "primes", "seed", "seconds", "finished_at", "command")
 
 
-class SourceError(ValueError):
+class SourceError(InputError):
     """A results source that cannot be read: one line naming the file and the problem."""
 
 

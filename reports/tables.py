@@ -15,6 +15,8 @@ import zlib
 from dataclasses import dataclass, field, replace
 from typing import Callable, Dict, List, Optional, Sequence, Tuple
 
+from ringmatch.errors import InputError
+
 from . import provenance as prov
 from .frames import Source, frame_record, load_rows
 
@@ -74,7 +76,7 @@ COLUMNS: Dict[str, Column] = {c.key: c for c in (
 DEFAULT_COLUMNS = ("case", "rank", "presentations", "verdict", "certificate", "seconds")
 
 
-class TableError(ValueError):
+class TableError(InputError):
     """A table option that makes no sense (e.g. an unknown column)."""
 
 

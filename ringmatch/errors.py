@@ -19,3 +19,9 @@ class InputError(RingmatchError, ValueError):
 
 class ResourceError(RingmatchError):
     """Work refused or stopped because it exceeds a stated size, time or memory limit."""
+
+
+class UsageError(InputError):
+    """A command-line request that cannot be run as given (an option, a combination of
+    options).  Defined here rather than in the command line so that the modules the command
+    line calls can raise it without importing the command line back."""

@@ -13,6 +13,7 @@ from pathlib import Path
 import pytest
 
 from ringmatch.compare import store, sweep
+from ringmatch.reports import sweeps as sweep_text
 from ringmatch.presentations.flagtype import parse_flag
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -114,7 +115,7 @@ def test_stop_at_first_counterexample_is_the_smallest_one(tmp_path):
     assert [r["case"] for r in outcome.ordered_results()] == ["P1", "P2", "Gr(2;3)", "Fl(3)"]
     assert [r["verdict"] for r in outcome.ordered_results()] == ["agree"] * 3 + ["disagree"]
     assert len(outcome.not_run) == len(p.flags) - 4
-    lines = sweep.witness_lines(outcome.results["Fl(3)"])
+    lines = sweep_text.witness_lines(outcome.results["Fl(3)"])
     assert lines and "whitney-sign-error" in lines[0]
 
 

@@ -1,0 +1,138 @@
+"""The `ringmatch sweep` subcommand: its options, the cases they name, and the run.
+
+It sits with the command line, above the sweep machinery (compare/sweep.py) and the report
+text (reports/sweeps.py), so that neither of those imports the command line.
+"""
+from __future__ import annotations
+
+import sqlite3
+from typing import List
+
+from ringmatch.errors import UsageError
+from ringmatch.presentations.flagtype import FlagType
+from ringmatch.reports.sweeps import summary_text
+
+from . import store
+from .sweep import (DEFAULT_STORE, KINDS, MAX_SWEEP_N, Limits, available_cores, enumerate_cases,
+                    outcome_json, parse_case_list, plan_sweep, run_sweep, terminal_progress)
+
+
+def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
+    from . import algebra
+    parser.add_argument("--max-n", type=positive_int, metavar="N",
+                        help="largest ambient dimension n")
+    parser.add_argument("--min-n", type=positive_int, default=2, metavar="N",
+                        help="smallest ambient dimension n; default 2")
+    parser.add_argument("--max-rank", type=positive_int, metavar="R",
+                        help="only flag types of rank (number of fixed points) ≤ R")
+    parser.add_argument("--kind", choices=KINDS,
+                        help="grassmannian, complete, or partial (= every flag type; default)")
+    parser.add_argument("--cases", metavar="'CASE;CASE;…'",
+                        help="explicit cases instead of --kind/--max-n, e.g. 'Gr(2,4);Fl(3)'")
+    parser.add_argument("--presentations", type=presentation_list,
+                        default=["whitney", "vieta"],
+                        help="comma-separated names or files; default whitney,vieta")
+    parser.add_argument("--store", default=DEFAULT_STORE, metavar="FILE",
+                        help=f"SQLite results store (resumed when run again); default "
+                             f"./{DEFAULT_STORE}")
+    parser.add_argument("--workers", type=positive_int, default=available_cores(),
+                        help="cases computed at once; default the number of cores")
+    parser.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
+                        help="a case running longer is stored as inconclusive (limit)")
+    parser.add_argument("--case-memory", type=positive_int, metavar="MiB",
+                        help="memory a case may allocate; beyond it, inconclusive (limit)")
+    parser.add_argument("--cluster", metavar="ADDRESS",
+                        help="run the cases on a Dask distributed cluster, e.g. "
+                             "tcp://127.0.0.1:8786 (the store stays here)")
+    parser.add_argument("--stop-at-first", action="store_true",
+                        help="stop at the smallest disagreeing case and print its witness")
+    parser.add_argument("--seed", type=int, default=0,
+                        help="sweep seed; each case's seed derives from it (default 0)")
+    parser.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
+    parser.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
+    parser.add_argument("--order", type=positive_int, default=6,
+                        help="truncation order N of the Bethe points")
+    parser.add_argument("--trials", type=positive_int, default=1)
+    from .engine import METHODS
+    parser.add_argument("--method", choices=METHODS, default="auto")
+    parser.add_argument("--json", action="store_true",
+                        help="one JSON object at the end: cases, first_counterexample, counts")
+
+
+def _positive_float(text: str) -> float:
+    import argparse
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+    if not value > 0 or value == float("inf"):
+        raise argparse.ArgumentTypeError(f"{text} must be a positive number of seconds")
+    return value
+
+
+def flags_from_arguments(args) -> List[FlagType]:
+    if args.cases is not None:
+        if args.max_n is not None or args.kind is not None or args.min_n != 2 or \
+                args.max_rank is not None:
+            raise UsageError("--cases lists the cases itself; leave out --kind, --max-n, "
+                             "--min-n, --max-rank")
+        flags = parse_case_list(args.cases)
+        if not flags:
+            raise UsageError(f"--cases {args.cases!r}: no case in the list")
+        return flags
+    if args.max_n is None:
+        raise UsageError("say which cases: --max-n N (with --kind) or --cases 'CASE;…'")
+    if args.max_n > MAX_SWEEP_N:
+        raise UsageError(f"--max-n {args.max_n}: at most {MAX_SWEEP_N}")
+    if args.min_n > args.max_n:
+        raise UsageError(f"--min-n {args.min_n} is larger than --max-n {args.max_n}")
+    flags = enumerate_cases(args.kind or "partial", args.max_n, args.min_n, args.max_rank)
+    if not flags:
+        raise UsageError(f"no flag type with {args.min_n} ≤ n ≤ {args.max_n}"
+                         + (f" and rank ≤ {args.max_rank}" if args.max_rank else ""))
+    return flags
+
+
+def command(args) -> int:
+    import json
+    flags = flags_from_arguments(args)
+    largest = max(f.n for f in flags)
+    if not args.plain and args.prime - 2 < largest:
+        raise UsageError(f"--prime {args.prime} is too small for {largest} distinct weights")
+    if args.cluster:
+        try:
+            import distributed   # noqa: F401
+        except ImportError:
+            raise UsageError("--cluster needs Dask: pip install 'ringmatch[cluster]'") from None
+    plan = plan_sweep(flags, args.presentations, seed=args.seed, prime=args.prime,
+                      equivariant=not args.plain, order=args.order, trials=args.trials,
+                      method=args.method)
+    limits = Limits(args.case_timeout, args.case_memory)
+    progress = terminal_progress()
+    try:
+        outcome = run_sweep(plan, args.store, workers=args.workers, limits=limits,
+                            stop_at_first=args.stop_at_first, cluster=args.cluster,
+                            progress=progress)
+    except store.StoreError as error:
+        raise UsageError(f"--store {error}") from None
+    except Exception as error:
+        if args.cluster and _is_connection_error(error):
+            raise UsageError(f"--cluster {args.cluster}: cannot use the cluster "
+                             f"({type(error).__name__}: {error})") from None
+        if isinstance(error, (OSError, sqlite3.Error)):
+            raise UsageError(f"--store {args.store}: {error}") from None
+        raise
+    finally:
+        if progress is not None:
+            progress.close()
+    if args.json:
+        print(json.dumps(outcome_json(outcome, args.store), indent=2))
+    else:
+        print(summary_text(outcome, store_path=args.store, cluster=args.cluster,
+                           workers=args.workers))
+    return 0
+
+
+def _is_connection_error(error: Exception) -> bool:
+    return isinstance(error, (OSError, TimeoutError)) or \
+        type(error).__module__.startswith(("distributed", "tornado", "asyncio"))
