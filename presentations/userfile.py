@@ -6,9 +6,17 @@ display, Gröbner bases, Bethe points and comparisons treat it like a built-in f
 
 Public functions:
 
-* `load_family(path)`            → Family          (errors: PresentationFileError)
-* `family_from_text(text, label)` → Family
-* `family_from_spec(spec)`       → Family
+* `load_family(path, values)`    → Family          (errors: PresentationFileError)
+* `family_from_text(text, label, values)` → Family
+* `family_from_spec(spec, values)` → Family
+* `load_spec(name)`              → FileSpec of a file or shipped file, None for other names
+* `bind_values(spec, given)`     → every declared parameter's value (given, else default)
+* `bound_name(spec, values)`     → the name results carry: name[a=1,b=-2]
+
+Integer parameters (`[[parameters]]`): `values` maps a parameter's name (or `name_i` for one
+step of a per-step parameter) to an integer; names the file does not declare are ignored
+here (the command line refuses names no file declares).  Every family of a parameterised
+file carries its values in its name, so results and stores never mix two settings.
 * `case_file_text(family, flag)` → str: any family for one flag type, written as a case file
 * `shipped_files()`              → {name: path} of the files shipped in presentations/files
 * `looks_like_path(name)`        → whether a presentation name on the command line is a file
@@ -20,15 +28,16 @@ import os
 import re
 from functools import lru_cache
 from pathlib import Path
-from typing import Dict, List, Optional, Tuple
+from typing import Dict, List, Mapping, Optional, Tuple
 
 from .flagtype import FlagType
 from .interface import Family, PresentationError, Relation, build_symbolic
 from .userfile_container import FileSpec, read_file, read_text
 from .userfile_expand import Expanded, expand, transport, unsupported_reason
-from .userfile_syntax import PresentationFileError
+from .userfile_syntax import PresentationFileError, fail
 
-__all__ = ["PresentationFileError", "load_family", "family_from_text", "family_from_spec",
+__all__ = ["PresentationFileError", "ParameterValuesMissing", "load_family", "load_spec",
+           "spec_of", "bind_values", "bound_name", "accepts", "family_from_text", "family_from_spec",
            "case_file_text", "shipped_files", "looks_like_path", "polynomial_text"]
 
 FILES_DIRECTORY = Path(__file__).resolve().parent / "files"
@@ -38,32 +47,136 @@ def looks_like_path(name: str) -> bool:
     return name.endswith(".toml") or "/" in name or os.sep in name
 
 
-def load_family(path: str) -> Family:
+class ParameterValuesMissing(PresentationFileError):
+    """A parameterised file read without values for parameters that have no default."""
+
+    def __init__(self, spec: FileSpec, names: List[str]):
+        self.family_name = spec.name
+        self.names = names
+        first = next(p for p in spec.parameters if p.name == names[0])
+        line, column = first.at.source.where(first.at.offset)
+        super().__init__(f"parameter{'s' if len(names) > 1 else ''} {', '.join(names)} of "
+                         f"{spec.name} need{'' if len(names) > 1 else 's'} a value (no default "
+                         f"declared): give {' '.join(f'--set {n}=…' for n in names)}",
+                         spec.file, line, column)
+
+
+Values = Optional[Mapping[str, int]]
+
+
+def _values_key(values: Values) -> Tuple[Tuple[str, int], ...]:
+    return tuple(sorted((values or {}).items()))
+
+
+def _file_key(path: str) -> tuple:
     try:
         stat = os.stat(path)
     except OSError as error:
         raise PresentationFileError(f"cannot read the file: {error.strerror or error}", str(path))
-    return _load_cached(str(path), os.path.realpath(path), stat.st_mtime_ns, stat.st_size)
+    return str(path), os.path.realpath(path), stat.st_mtime_ns, stat.st_size
+
+
+def load_spec(path: str) -> FileSpec:
+    return _spec_cached(*_file_key(path))
 
 
 @lru_cache(maxsize=64)
-def _load_cached(label: str, real_path: str, mtime: int, size: int) -> Family:
+def _spec_cached(label: str, real_path: str, mtime: int, size: int) -> FileSpec:
     # Keyed on the real path and modification time, so an edited file is read again; errors
     # name the file as the user wrote it.
-    return family_from_spec(read_file(label))
+    return read_file(label)
 
 
-def family_from_text(text: str, label: str = "<text>") -> Family:
-    return family_from_spec(read_text(text, label))
+def spec_of(name: str) -> Optional[FileSpec]:
+    """The FileSpec behind a presentation name (a path or a shipped file), None otherwise."""
+    from . import FAMILIES
+    if looks_like_path(name):
+        return load_spec(name)
+    if name in FAMILIES:
+        return None
+    path = shipped_files().get(name)
+    return None if path is None else load_spec(str(path))
 
 
-def family_from_spec(spec: FileSpec) -> Family:
+def load_family(path: str, values: Values = None) -> Family:
+    return _family_cached(_file_key(path), _values_key(values))
+
+
+@lru_cache(maxsize=256)
+def _family_cached(file_key: tuple, values: Tuple[Tuple[str, int], ...]) -> Family:
+    return family_from_spec(_spec_cached(*file_key), dict(values))
+
+
+def family_from_text(text: str, label: str = "<text>", values: Values = None) -> Family:
+    return family_from_spec(read_text(text, label), values)
+
+
+def _check_value(p, key: str, value) -> int:
+    if isinstance(value, bool) or not isinstance(value, int):
+        fail(p.at, f"parameter {key}: the value {value!r} is not an integer")
+    if value not in p.values:
+        fail(p.at, f"parameter {key}: the value {value} is not among the declared values "
+                   f"{p.describe_values()}")
+    return value
+
+
+def bind_values(spec: FileSpec, given: Values = None) -> Dict[str, int]:
+    """The value of every declared parameter (given, else its default), checked against the
+    declaration; per-step parameters may also be given per step (`a_2`).  Names the file
+    does not declare are ignored.  Missing values raise ParameterValuesMissing."""
+    given = dict(given or {})
+    out: Dict[str, int] = {}
+    missing = []
+    for p in spec.parameters:
+        steps = {}
+        if p.per_step:
+            for key, value in given.items():
+                head, _, step = key.rpartition("_")
+                if head == p.name and step.isdigit() and int(step) >= 1:
+                    steps[f"{p.name}_{int(step)}"] = _check_value(p, key, value)
+        value = given.get(p.name, p.default)
+        if value is None and not steps:
+            missing.append(p.name)
+            continue
+        if value is not None:
+            out[p.name] = _check_value(p, p.name, value)
+        out.update(sorted(steps.items()))
+    if missing:
+        raise ParameterValuesMissing(spec, missing)
+    return out
+
+
+def declared_names(spec: FileSpec) -> List[str]:
+    return [p.name for p in spec.parameters]
+
+
+def accepts(spec: FileSpec, key: str) -> bool:
+    """Whether `--set key=…` means something for this file."""
+    for p in spec.parameters:
+        if key == p.name:
+            return True
+        head, _, step = key.rpartition("_")
+        if p.per_step and head == p.name and step.isdigit() and int(step) >= 1:
+            return True
+    return False
+
+
+def bound_name(spec: FileSpec, values: Mapping[str, int]) -> str:
+    if not spec.parameters:
+        return spec.name
+    return f"{spec.name}[{','.join(f'{k}={v}' for k, v in values.items())}]"
+
+
+def family_from_spec(spec: FileSpec, values: Values = None) -> Family:
+    bound = bind_values(spec, values)
+    name = bound_name(spec, bound)
+
     @lru_cache(maxsize=16)
     def expanded(flag: FlagType) -> Expanded:
         reason = unsupported_reason(spec, flag)
         if reason:
-            raise PresentationError(f"{spec.name} has no presentation for {flag.name}: {reason}")
-        return expand(spec, flag)
+            raise PresentationError(f"{name} has no presentation for {flag.name}: {reason}")
+        return expand(spec, flag, bound)
 
     def generators(flag):
         return list(expanded(flag).generators)
@@ -83,7 +196,7 @@ def family_from_spec(spec: FileSpec) -> Family:
         return unsupported_reason(spec, flag)
 
     description = spec.description or f"{spec.flavour} file {spec.file}"
-    return Family(spec.name, description, generators, relations, units, expected_colength,
+    return Family(name, description, generators, relations, units, expected_colength,
                   unsupported)
 
 
@@ -97,9 +210,9 @@ def shipped_files() -> Dict[str, Path]:
     return {path.stem: path for path in sorted(FILES_DIRECTORY.rglob("*.toml"))}
 
 
-def shipped_family(name: str) -> Optional[Family]:
+def shipped_family(name: str, values: Values = None) -> Optional[Family]:
     path = shipped_files().get(name)
-    return None if path is None else load_family(str(path))
+    return None if path is None else load_family(str(path), values)
 
 
 # ---------------------------------------------------------------------------------------

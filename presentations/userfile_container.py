@@ -28,6 +28,9 @@ from .userfile_syntax import (Binding, LineIndex, Loc, Node, PresentationFileErr
 
 MAX_FILE_BYTES = 256 * 1024
 MAX_GROUP_DEPTH = 6
+MAX_PARAMETERS = 8
+MAX_PARAMETER_VALUES = 1000      # values one parameter may take
+MAX_PARAMETER_MAGNITUDE = 10**6  # |value| of a parameter
 FORMAT_VERSION = 1
 NAME_PATTERN = re.compile(r"[A-Za-z][A-Za-z0-9_.+-]{0,63}")
 APPLIES_TO_WORDS = ("all", "grassmannians", "projective", "complete")
@@ -60,6 +63,22 @@ Decl = Union[GeneratorDecl, RelationDecl, UnitDecl]
 
 
 @dataclass(frozen=True)
+class ParameterDecl:
+    """An integer the file leaves open: its allowed values, in the order declared."""
+    name: str
+    values: Tuple[int, ...]
+    default: Optional[int]
+    per_step: bool             # a_i for each step i, rather than one a
+    at: Loc
+
+    def describe_values(self) -> str:
+        v = self.values
+        if len(v) > 2 and list(v) == list(range(v[0], v[-1] + 1)):
+            return f"{v[0]}..{v[-1]}"
+        return ", ".join(map(str, v))
+
+
+@dataclass(frozen=True)
 class Entry:
     """One table of `generators`, `relations` or `units`: loops, then a declaration or a group."""
     loops: Tuple[Binding, ...]
@@ -81,6 +100,7 @@ class FileSpec:
     relations: Tuple[Entry, ...]
     units: Tuple[Entry, ...]
     at: Dict[str, Loc]             # where each top-level key is, for errors about it
+    parameters: Tuple[ParameterDecl, ...] = ()
 
 
 # ---------------------------------------------------------------------------------------
@@ -98,21 +118,37 @@ class StringLocator:
                                                        # offset where the content starts
     used: List[bool]
     whole: SourceText
+    # value -> indices of the literals with it, and how many of those are used: a lookup is
+    # then constant time (a file of many identical strings must not parse in quadratic time)
+    by_value: Dict[str, List[int]] = None
+    next_unused: Dict[str, int] = None
 
     @staticmethod
     def scan(file: str, text: str) -> "StringLocator":
         literals = _scan_strings(text)
         lines = LineIndex.of(text)
         whole = SourceText(file, text, lines)
-        return StringLocator(file, text, lines, literals, [False] * len(literals), whole)
+        by_value: Dict[str, List[int]] = {}
+        for index, (decoded, _, _) in enumerate(literals):
+            by_value.setdefault(decoded, []).append(index)
+        return StringLocator(file, text, lines, literals, [False] * len(literals), whole,
+                             by_value, {})
+
+    def _first_unused(self, value: str) -> Optional[int]:
+        indices = self.by_value.get(value)
+        if not indices:
+            return None
+        position = self.next_unused.get(value, 0)
+        return indices[position] if position < len(indices) else None
 
     def source(self, value: str, fallback: Loc) -> SourceText:
         """The first unused literal with this decoded value; else positions at `fallback`."""
-        for index, (decoded, offsets, start) in enumerate(self.literals):
-            if not self.used[index] and decoded == value:
-                self.used[index] = True
-                return SourceText(self.file, value, self.lines, offsets,
-                                  self.lines.line_col(start))
+        index = self._first_unused(value)
+        if index is not None:
+            self.used[index] = True
+            self.next_unused[value] = self.next_unused.get(value, 0) + 1
+            decoded, offsets, start = self.literals[index]
+            return SourceText(self.file, value, self.lines, offsets, self.lines.line_col(start))
         return SourceText(self.file, value, None, None, fallback.source.where(fallback.offset))
 
     def table_start(self, item: dict) -> Optional[int]:
@@ -120,10 +156,11 @@ class StringLocator:
         value (TOML keeps the keys of a table in file order)."""
         for value in item.values():
             if isinstance(value, str):
-                for index, (decoded, _, start) in enumerate(self.literals):
-                    if not self.used[index] and decoded == value:
-                        return max(self.text.rfind("[[", 0, start), self.text.rfind("{", 0, start))
-                return None
+                index = self._first_unused(value)
+                if index is None:
+                    return None
+                start = self.literals[index][2]
+                return max(self.text.rfind("[[", 0, start), self.text.rfind("{", 0, start))
         return None
 
     def key_in_table(self, key: str, start: Optional[int], fallback: Loc) -> Loc:
@@ -259,7 +296,22 @@ def read_text(text: str, label: str = "<text>") -> FileSpec:
         raise _toml_error(error, text, label) from None
     except RecursionError:
         raise PresentationFileError("TOML nested too deeply", label) from None
+    except ValueError:
+        # Python refuses to convert integers of more than 4300 digits (and the TOML parser
+        # lets that through); name where the literal is.
+        raise _long_integer_error(text, label) from None
     return _read_spec(data, StringLocator.scan(label, text))
+
+
+MAX_TOML_INTEGER_DIGITS = 40
+
+
+def _long_integer_error(text: str, label: str) -> PresentationFileError:
+    match = re.search(r"[0-9_]{%d,}" % (MAX_TOML_INTEGER_DIGITS + 1), text)
+    offset = match.start() if match else 0
+    line, column = LineIndex.of(text).line_col(offset)
+    return PresentationFileError(f"integer with more than {MAX_TOML_INTEGER_DIGITS} digits",
+                                 label, line, column)
 
 
 def _toml_error(error: Exception, text: str, label: str) -> PresentationFileError:
@@ -279,10 +331,11 @@ def _toml_error(error: Exception, text: str, label: str) -> PresentationFileErro
 
 _TOP_KEYS = {
     "case": ("format", "flavour", "name", "description", "case", "expected_colength",
-             "generators", "relations", "units"),
+             "parameters", "generators", "relations", "units"),
     "family": ("format", "flavour", "name", "description", "applies_to", "expected_colength",
-               "generators", "relations", "units"),
+               "parameters", "generators", "relations", "units"),
 }
+_PARAMETER_KEYS = ("name", "values", "default", "per_step")
 _ENTRY_KEYS = {
     "generators": ("for", "name", "meaning", "weight", "group"),
     "relations": ("for", "coefficients", "label", "expr", "group"),
@@ -320,6 +373,7 @@ def _read_spec(data: dict, locator: StringLocator) -> FileSpec:
             fail(locator.key("case"), str(error))
     else:
         applies_to = _applies_to(data, locator)
+    parameters = _parameters(data.get("parameters", []), locator)
     colength = data.get("expected_colength")
     if colength is not None:
         colength = _integer_or_expression(colength, "expected_colength", locator,
@@ -337,7 +391,99 @@ def _read_spec(data: dict, locator: StringLocator) -> FileSpec:
     at = {key: locator.key(key) for key in data}
     at[""] = top
     return FileSpec(locator.file, flavour, name, description.strip(), case, applies_to, colength,
-                    sections["generators"], sections["relations"], sections["units"], at)
+                    sections["generators"], sections["relations"], sections["units"], at,
+                    parameters)
+
+
+_PARAMETER_NAME = re.compile(r"[A-Za-z][A-Za-z0-9]{0,31}")
+_RANGE = re.compile(r"\s*([+-]?[0-9]{1,40})\s*\.\.\s*([+-]?[0-9]{1,40})\s*")
+
+
+def _parameters(raw, locator: StringLocator) -> Tuple[ParameterDecl, ...]:
+    from .userfile_syntax import RESERVED
+    at = locator.key("parameters")
+    if isinstance(raw, dict):
+        raw = [raw]
+    if not isinstance(raw, list):
+        fail(at, "parameters must be a list of tables ([[parameters]])")
+    if len(raw) > MAX_PARAMETERS:
+        fail(at, f"more than {MAX_PARAMETERS} parameters")
+    out: List[ParameterDecl] = []
+    for item in raw:
+        if not isinstance(item, dict):
+            fail(at, "each entry of parameters must be a table with name, values, default")
+        start = locator.table_start(item)
+        where = Loc(locator.whole, start) if start is not None and start >= 0 else at
+        for key in item:
+            if key not in _PARAMETER_KEYS:
+                fail(locator.key_in_table(key, start, where), f"unknown key {key!r} in "
+                     f"parameters (expected one of {', '.join(_PARAMETER_KEYS)})")
+        name = item.get("name")
+        if not isinstance(name, str):
+            fail(where, "a parameter needs a name (a string)")
+        name_at = locator.source(name, where)
+        if not _PARAMETER_NAME.fullmatch(name):
+            fail(Loc(name_at, 0), f"parameter name {name!r} must be a letter followed by "
+                                  "letters and digits (at most 32 characters)")
+        if name in RESERVED or re.fullmatch(r"[Tq][0-9]+", name):
+            fail(Loc(name_at, 0), f"parameter name {name!r} is reserved for a built-in symbol")
+        if any(p.name == name for p in out):
+            fail(Loc(name_at, 0), f"parameter {name!r} is declared twice")
+        values_at = locator.key_in_table("values", start, where)
+        values = _parameter_values(item.get("values"), name, values_at, locator)
+        default = item.get("default")
+        default_at = locator.key_in_table("default", start, where)
+        if default is not None:
+            if isinstance(default, bool) or not isinstance(default, int):
+                fail(default_at, f"the default of {name} must be an integer")
+            if default not in values:
+                fail(default_at, f"the default {default} of {name} is not among its values "
+                                 f"{_shown(values)}")
+        per_step = item.get("per_step", False)
+        if not isinstance(per_step, bool):
+            fail(locator.key_in_table("per_step", start, where), "per_step must be true or false")
+        out.append(ParameterDecl(name, values, default, per_step, Loc(name_at, 0)))
+    return tuple(out)
+
+
+def _shown(values: Tuple[int, ...]) -> str:
+    return ParameterDecl("", values, None, False, None).describe_values()
+
+
+def _parameter_values(raw, name: str, at: Loc, locator: StringLocator) -> Tuple[int, ...]:
+    if raw is None:
+        fail(at, f"parameter {name} needs values: a range \"low..high\" or a list of integers")
+    if isinstance(raw, str):
+        match = _RANGE.fullmatch(raw)
+        if not match:
+            fail(at, f"values of {name}: expected a range such as \"-3..3\" or a list of "
+                     f"integers, got {raw!r}")
+        low, high = int(match.group(1)), int(match.group(2))
+        for bound in (low, high):
+            if abs(bound) > MAX_PARAMETER_MAGNITUDE:
+                fail(at, f"values of {name}: {bound} is larger than {MAX_PARAMETER_MAGNITUDE} "
+                         "in absolute value")
+        if high < low:
+            fail(at, f"values of {name}: empty range {low}..{high}")
+        if high - low + 1 > MAX_PARAMETER_VALUES:
+            fail(at, f"values of {name}: {high - low + 1} values, more than the limit "
+                     f"{MAX_PARAMETER_VALUES}")
+        return tuple(range(low, high + 1))
+    if not isinstance(raw, list) or not raw:
+        fail(at, f"values of {name} must be a range \"low..high\" or a non-empty list of "
+                 "integers")
+    if len(raw) > MAX_PARAMETER_VALUES:
+        fail(at, f"values of {name}: {len(raw)} values, more than the limit "
+                 f"{MAX_PARAMETER_VALUES}")
+    for value in raw:
+        if isinstance(value, bool) or not isinstance(value, int):
+            fail(at, f"values of {name} must be integers, got {value!r}")
+        if abs(value) > MAX_PARAMETER_MAGNITUDE:
+            fail(at, f"values of {name}: {value} is larger than {MAX_PARAMETER_MAGNITUDE} in "
+                     "absolute value")
+    if len(set(raw)) != len(raw):
+        fail(at, f"values of {name}: a value is listed twice")
+    return tuple(raw)
 
 
 def _required_string(data: dict, key: str, locator: StringLocator) -> str:
@@ -376,6 +522,8 @@ def _integer_or_expression(value, key: str, locator: StringLocator, at: Loc):
     if isinstance(value, bool) or not isinstance(value, (int, str)):
         fail(at, f"{key} must be an integer or an expression in a string")
     if isinstance(value, int):
+        if abs(value) >= 10 ** MAX_TOML_INTEGER_DIGITS:
+            fail(at, f"{key}: integer with more than {MAX_TOML_INTEGER_DIGITS} digits")
         return value
     return parse_expression(locator.source(value, at))
 
@@ -391,12 +539,15 @@ def _entries(raw, section: str, locator: StringLocator, at: Loc, depth: int) -> 
 
 
 def _entry(item, section: str, locator: StringLocator, at: Loc, depth: int) -> Entry:
-    if isinstance(item, str) and section in ("relations", "units"):
+    bare = isinstance(item, str) and section in ("relations", "units")
+    if bare:
         item = {"expr": item}
     if not isinstance(item, dict):
         fail(at, f"each entry of {section} must be a table" +
              (" or an expression string" if section != "generators" else ""))
-    start = locator.table_start(item)
+    # A bare string has no table of its own; searching backwards for one would make a long
+    # list of strings parse in quadratic time.
+    start = None if bare else locator.table_start(item)
     for key in item:
         if key not in _ENTRY_KEYS[section]:
             fail(locator.key_in_table(key, start, at),

@@ -25,18 +25,26 @@ from .flagtype import FlagType
 from .interface import Generator
 from .meanings import Meaning
 from .userfile_container import FileSpec, GeneratorDecl, RelationDecl, UnitDecl
-from .userfile_syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Loc, Loop, Negate,
-                              Node, Num, Power, PresentationFileError, Symbol, Template, Toda,
-                              fail)
+from .userfile_syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Extremum, Loc, Loop,
+                              Negate, Node, Num, Power, PresentationFileError, Symbol, Template,
+                              Toda, fail)
 
 MAX_DEGREE = 200              # total degree, y included, of any intermediate polynomial
 MAX_TERMS = 20_000            # terms of any intermediate polynomial
 MAX_PRODUCT_WORK = 4_000_000  # len(a)·len(b) for one multiplication
-MAX_COEFFICIENT_BITS = 20_000
+# Below Python's 4300-digit limit for printing integers, so every number a file can produce
+# can also be written out (relations, case files, reports).
+MAX_COEFFICIENT_BITS = 14_000
 MAX_STEPS = 300_000           # evaluation steps (syntax-tree nodes and loop rounds) per flag type
+# All arithmetic of one expansion together: term products of multiplications, weighted by
+# the size of their coefficients in 64-bit words, plus the terms of additions.  Each step
+# within its own limits can still add up to minutes and gigabytes over a loop.
+MAX_TOTAL_WORK = 30_000_000
 MAX_GENERATORS = 2_000
 MAX_RELATIONS = 5_000
+MAX_UNITS = 32                # each declared unit becomes an inverse variable in the engine
 MAX_DIVISOR_TERMS = 400       # a divisor is factored to check that it is a unit
+MAX_SHOWN_INTEGER = 10**18    # template holes and expected_colength
 
 GENERATOR_NAME = re.compile(r"([A-Za-z][A-Za-z0-9]*)((?:_[0-9]+)*)")
 PARAMETER_NAME = re.compile(r"([Tq])([0-9]+)")
@@ -78,7 +86,10 @@ class _State:
     factor_cache: Dict[str, Optional[str]] = field(default_factory=dict)
     cache: Dict[tuple, List[Value]] = field(default_factory=dict)
     steps: int = 0
+    work: int = 0
     y_index: int = -1
+    params: Dict[str, object] = field(default_factory=dict)     # name → ParameterDecl
+    values: Dict[str, int] = field(default_factory=dict)        # "a" or "a_2" → value
 
 
 # ---------------------------------------------------------------------------------------
@@ -95,8 +106,22 @@ def unsupported_reason(spec: FileSpec, flag: FlagType) -> Optional[str]:
     return f"the file applies to {', '.join(spec.applies_to)} only"
 
 
-def expand(spec: FileSpec, flag: FlagType) -> Expanded:
+def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = None) -> Expanded:
+    """`values`: the parameters' values (name, or name_i for a per-step parameter), already
+    checked against the declarations (userfile.bind_values)."""
     st = _State(flag)
+    st.params = {p.name: p for p in spec.parameters}
+    st.values = dict(values or {})
+    for p in spec.parameters:
+        if p.name not in st.values and not p.per_step:
+            fail(p.at, f"parameter {p.name} has no value (give one with --set {p.name}=…)")
+        if p.per_step:
+            for i in range(1, flag.m + 1):
+                value = st.values.get(f"{p.name}_{i}", st.values.get(p.name))
+                if value is None:
+                    fail(p.at, f"parameter {p.name}_{i} has no value for {flag.name} (give one "
+                               f"with --set {p.name}=… or --set {p.name}_{i}=…)")
+                st.values[f"{p.name}_{i}"] = value
     generators = _expand_generators(spec, st)
     names = [g.name for g in generators] + [f"T{j}" for j in range(1, flag.n + 1)] + \
             [f"q{i}" for i in range(1, flag.m + 1)] + ["y"]
@@ -142,6 +167,8 @@ def _check_new_variable(var: str, at: Loc, env: dict, st: _State) -> None:
         fail(at, f"loop variable {var!r} is already bound here")
     if var in st.gen_index:
         fail(at, f"loop variable {var!r} has the name of a generator")
+    if var in st.params:
+        fail(at, f"loop variable {var!r} has the name of a parameter")
 
 
 def _check_range(low: int, high: int, at: Loc, st: _State) -> None:
@@ -161,7 +188,7 @@ def _expand_generators(spec: FileSpec, st: _State) -> List[Generator]:
     for decl, env, at, _ in _walk(spec.generators, {}, st):
         assert isinstance(decl, GeneratorDecl)
         name = _render(decl.name, env, st)
-        _check_generator_name(name, decl.name.at)
+        _check_generator_name(name, decl.name.at, st.params)
         if name in names:
             fail(decl.name.at, f"duplicate generator {name!r}")
         meaning = _meaning(decl.meaning, env, st)
@@ -184,7 +211,7 @@ def _expand_generators(spec: FileSpec, st: _State) -> List[Generator]:
     return out
 
 
-def _check_generator_name(name: str, at: Loc) -> None:
+def _check_generator_name(name: str, at: Loc, params=None) -> None:
     match = GENERATOR_NAME.fullmatch(name)
     if not match:
         fail(at, f"generator name {name!r} must be a letter, then letters and digits, then "
@@ -192,6 +219,8 @@ def _check_generator_name(name: str, at: Loc) -> None:
     base = match.group(1)
     if base in RESERVED or PARAMETER_NAME.fullmatch(base) and not match.group(2):
         fail(at, f"generator name {name!r} is reserved for a built-in symbol")
+    if params and base in params:
+        fail(at, f"generator name {name!r} is the name of a parameter")
 
 
 def _meaning(node: Node, env: dict, st: _State) -> Meaning:
@@ -215,6 +244,8 @@ def _expand_units(spec: FileSpec, st: _State) -> List[object]:
     out = []
     for decl, env, at, _ in _walk(spec.units, {}, st):
         assert isinstance(decl, UnitDecl)
+        if len(out) >= MAX_UNITS:
+            fail(at, f"more than {MAX_UNITS} declared units")
         value = _as_frac(_eval(decl.expr, env, st), st, decl.expr.at)
         if value.num.is_zero():
             fail(decl.expr.at, "a declared unit is zero")
@@ -273,8 +304,15 @@ def _label(template: Optional[Template], env: dict, st: _State, number: int) -> 
 
 
 def _render(template: Template, env: dict, st: _State) -> str:
-    return "".join(part if isinstance(part, str) else str(_integer(part, env, st, "a hole {…}"))
+    return "".join(part if isinstance(part, str) else str(_shown_integer(part, env, st))
                    for part in template.parts)
+
+
+def _shown_integer(node: Node, env: dict, st: _State) -> int:
+    value = _integer(node, env, st, "a hole {…}")
+    if abs(value) > MAX_SHOWN_INTEGER:
+        fail(node.at, f"a hole {{…}} evaluates to a number larger than {MAX_SHOWN_INTEGER:.0e}")
+    return value
 
 
 def _expected_colength(spec: FileSpec, st: _State) -> int:
@@ -285,6 +323,8 @@ def _expected_colength(spec: FileSpec, st: _State) -> int:
     value = raw if isinstance(raw, int) else _integer(raw, {}, st, "expected_colength")
     if value < 1:
         fail(at, f"expected_colength must be positive, got {value}")
+    if value > MAX_SHOWN_INTEGER:
+        fail(at, f"expected_colength is larger than {MAX_SHOWN_INTEGER:.0e}")
     return value
 
 
@@ -320,6 +360,9 @@ def _eval(node: Node, env: dict, st: _State) -> Value:
         return _loop(node, env, st)
     if kind is Apply:
         return _apply(node, env, st)
+    if kind is Extremum:
+        numbers = [_integer(arg, env, st, f"an argument of {node.func}") for arg in node.args]
+        return max(numbers) if node.func == "max" else min(numbers)
     if kind is Toda:
         i = _integer(node.index, env, st, "an index")
         _in_range(i, 1, st.flag.m + 1, f"L_{i} needs 1 ≤ i ≤ m+1 = {st.flag.m + 1}", node.at)
@@ -352,6 +395,10 @@ def _symbol(node: Symbol, env: dict, st: _State) -> Value:
             return env[name]
         if name in ("n", "m", "rank"):
             return {"n": flag.n, "m": flag.m, "rank": flag.rank}[name]
+        if name in st.params:
+            if st.params[name].per_step:
+                fail(node.at, f"parameter {name} has a value per step: write {name}_i")
+            return st.values[name]
         if name == "y":
             return _gen(st.y_index, node.at, st)
         match = PARAMETER_NAME.fullmatch(name)
@@ -368,6 +415,14 @@ def _symbol(node: Symbol, env: dict, st: _State) -> Value:
                                         f"= {flag.m}", node.at)
             return flag.d(index)
         return _parameter(name, index, node.at, st)
+    if name in st.params and name not in env:
+        if not st.params[name].per_step or len(subs) != 1:
+            fail(node.at, f"parameter {name} takes " + ("exactly one subscript, the step, as "
+                          f"in {name}_i" if st.params[name].per_step else "no subscript"))
+        step = _integer(subs[0], env, st, "a step")
+        _in_range(step, 1, flag.m, f"{name}_{step} does not exist: steps are 1..m = 1..{flag.m}",
+                  node.at)
+        return st.values[f"{name}_{step}"]
     if name in ("k", "d", "T", "q"):
         fail(node.at, f"{name} takes exactly one subscript, as in {name}_i")
     if name in ("n", "m", "rank", "y") or name in env:
@@ -605,10 +660,19 @@ def _checked(value: Frac, at: Loc) -> Frac:
     return value
 
 
-def _work(a, b, at: Loc) -> None:
+def _work(a, b, at: Loc, st: Optional[_State] = None, bits: int = 0) -> None:
     if len(a) * len(b) > MAX_PRODUCT_WORK:
         fail(at, f"expansion too large: a product of {len(a)} by {len(b)} terms (at most "
                  f"{MAX_PRODUCT_WORK} term products per multiplication)")
+    if st is not None:
+        _spend(st, len(a) * len(b) * (1 + bits // 64), at)
+
+
+def _spend(st: _State, amount: int, at: Loc) -> None:
+    st.work += amount
+    if st.work > MAX_TOTAL_WORK:
+        fail(at, f"expanding the file takes too much arithmetic (more than {MAX_TOTAL_WORK} "
+                 "weighted term operations for one flag type)")
 
 
 def _negate(value: Value, at: Loc, st: _State) -> Value:
@@ -621,13 +685,14 @@ def _add(a: Value, b: Value, sign: int, at: Loc, st: _State) -> Value:
     if isinstance(a, int) and isinstance(b, int):
         return _int_checked(a + sign * b, at)
     a, b = _as_frac(a, st, at), _as_frac(b, st, at)
+    _spend(st, len(a.num) + len(b.num), at)
     if a.den == b.den:
         num = a.num + b.num if sign > 0 else a.num - b.num
         return _checked(Frac(num, a.den, max(a.bits, b.bits) + 1), at)
     common = a.den.gcd(b.den)
     scale_a, scale_b = b.den / common, a.den / common
-    _work(a.num, scale_a, at)
-    _work(b.num, scale_b, at)
+    _work(a.num, scale_a, at, st, a.bits)
+    _work(b.num, scale_b, at, st, b.bits)
     num = a.num * scale_a + (b.num * scale_b if sign > 0 else -(b.num * scale_b))
     den = a.den * scale_a
     bound = _checked(Frac(num, den, 0), at)
@@ -640,7 +705,7 @@ def _multiply(a: Value, b: Value, at: Loc, st: _State) -> Value:
             fail(at, f"a number exceeds {MAX_COEFFICIENT_BITS} bits")
         return _int_checked(a * b, at)
     a, b = _as_frac(a, st, at), _as_frac(b, st, at)
-    _work(a.num, b.num, at)
+    _work(a.num, b.num, at, st, a.bits + b.bits)
     if int(a.num.total_degree()) + int(b.num.total_degree()) > MAX_DEGREE:
         fail(at, f"degree exceeds {MAX_DEGREE}")
     num = a.num * b.num

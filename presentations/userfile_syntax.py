@@ -256,13 +256,23 @@ class Toda:
 
 
 @dataclass(frozen=True)
+class Extremum:
+    """max(a, b, …) or min(a, b, …) of integers (e.g. the degree of a polynomial whose
+    leading term depends on a parameter)."""
+    func: str
+    args: Tuple["Node", ...]
+    at: Loc
+
+
+@dataclass(frozen=True)
 class Equation:
     left: "Node"
     right: "Node"
     at: Loc
 
 
-Node = Union[Num, Symbol, Negate, Chain, Power, Coefficient, Loop, Apply, Toda, Equation]
+Node = Union[Num, Symbol, Negate, Chain, Power, Coefficient, Loop, Apply, Toda, Equation,
+             Extremum]
 
 
 @dataclass(frozen=True)
@@ -529,6 +539,8 @@ def _primary(cursor: _Cursor) -> Node:
         cursor.advance()
         cursor.expect_op("_", "a subscript: L_i means det S_i / det S_(i-1)")
         return Toda(_subscript(cursor), at)
+    if name in ("max", "min") and cursor.peek().kind == "op" and cursor.peek().text == "(":
+        return _extremum(cursor)
     if name in ("S", "Q", "Y", "C"):
         fail(at, f"the bundle {name} can only stand inside lambda_y(…), lambda_j(…), e_j(…), "
                  "h_j(…), x_a(…) or det(…)")
@@ -558,6 +570,20 @@ def _subscript(cursor: _Cursor) -> Node:
         return node
     fail(cursor.at(), f"expected a subscript (a number, a name or {{expression}}), "
                       f"found {describe(token)}")
+
+
+def _extremum(cursor: _Cursor) -> Node:
+    token = cursor.advance()
+    at = cursor.at(token)
+    cursor.advance()                       # the '(' seen by the caller
+    cursor.enter()
+    args = [_sum(cursor)]
+    while cursor.is_op(","):
+        cursor.advance()
+        args.append(_sum(cursor))
+    cursor.expect_op(")", f"')' closing {token.text}(…)")
+    cursor.leave()
+    return Extremum(token.text, tuple(args), at)
 
 
 def _coefficient(cursor: _Cursor) -> Node:
