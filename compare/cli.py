@@ -217,7 +217,12 @@ def cmd_iso(args) -> int:
     if args.json:
         print(json.dumps(as_json(result), indent=2))
     else:
-        print(as_text(result, latex=args.latex))
+        symbol_latex = None
+        if args.latex:   # the naming of `relations --latex` and of tables
+            from ringmatch.reports.formulas import symbols_latex
+            symbol_latex = {**symbols_latex(target.generators(args.case)),
+                            **symbols_latex(source.generators(args.case))}
+        print(as_text(result, latex=args.latex, symbol_latex=symbol_latex))
     return 0
 
 

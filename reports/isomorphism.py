@@ -10,7 +10,7 @@ from __future__ import annotations
 import itertools
 import re
 from functools import lru_cache
-from typing import Dict, List, Sequence
+from typing import Dict, List, Optional, Sequence
 
 import sympy
 
@@ -85,10 +85,18 @@ def latex_name(name: str) -> str:
     return name
 
 
-def formula_latex(formula: GeneratorFormula, source_names: Sequence[str]) -> str:
+def formula_latex(formula: GeneratorFormula, source_names: Sequence[str],
+                  symbol_latex: Optional[Dict[str, str]] = None) -> str:
+    """LaTeX of the formula; generators by `symbol_latex` (reports.formulas.symbols_latex:
+    the scheme of relations and tables), others by `latex_name`."""
     expression = formula_expression(formula, source_names)
-    names = {s: latex_name(s.name) for s in expression.free_symbols}
+    symbol_latex = symbol_latex or {}
+    names = {s: symbol_latex.get(s.name) or latex_name(s.name) for s in expression.free_symbols}
     return sympy.latex(expression, symbol_names=names)
+
+
+def target_latex(name: str, symbol_latex: Optional[Dict[str, str]] = None) -> str:
+    return (symbol_latex or {}).get(name) or latex_name(name)
 
 
 def direction_map(direction: Direction) -> Dict[str, str]:
@@ -128,19 +136,22 @@ def _check_line(check: dict) -> str:
     return f"  {check['check']}: {verdict} ({check.get('method', '')}; {where})\n    {check['detail']}"
 
 
-def _formula_lines(direction: Direction, latex: bool) -> List[str]:
+def _formula_lines(direction: Direction, latex: bool,
+                   symbol_latex: Optional[Dict[str, str]] = None) -> List[str]:
     lines = []
     width = max((len(f.target) for f in direction.formulas), default=0)
     for f in direction.formulas:
         if latex:
-            lines.append(f"  {latex_name(f.target)} &= "
-                         f"{formula_latex(f, direction.source_generators)} \\\\")
+            lines.append(f"  {target_latex(f.target, symbol_latex)} &= "
+                         f"{formula_latex(f, direction.source_generators, symbol_latex)} \\\\")
         else:
             lines.append(f"  {f.target:<{width}} = {formula_text(f, direction.source_generators)}")
     return lines
 
 
-def as_text(result: IsoResult, *, latex: bool = False) -> str:
+def as_text(result: IsoResult, *, latex: bool = False,
+            symbol_latex: Optional[Dict[str, str]] = None) -> str:
+    """`symbol_latex`: {generator name: LaTeX} of both presentations, for `latex`."""
     verdict = "found, verified" if result.verified else \
         "found, not verified" if result.found else result.status
     lines = [f"Isomorphism {result.source} → {result.target} for {result.case}: {verdict}",
@@ -153,8 +164,9 @@ def as_text(result: IsoResult, *, latex: bool = False) -> str:
         lines += ["", f"{label} ({direction.target} generators in {direction.source} generators):"]
         if latex:
             lines.append("\\begin{align*}")
-        lines += _formula_lines(direction, latex)
+        lines += _formula_lines(direction, latex, symbol_latex)
         if latex:
+            lines[-1] = lines[-1].rstrip(" \\")   # a final \\ would add an empty row
             lines.append("\\end{align*}")
         normal = [s.target for s in direction.supports if s.how != "sparsest"]
         if normal:

@@ -18,9 +18,9 @@ from typing import Callable, Dict, List, Optional, Sequence, Tuple
 from ringmatch.errors import InputError
 
 from . import provenance as prov
+from .formulas import generator_latex, relation_latex_pieces
 from .frames import Source, frame_record, load_rows
 
-from .formulas import generator_latex, relation_latex_pieces
 FORMATS = ("latex", "csv", "markdown")
 # Above this many rows a LaTeX table no longer fits on one page: it becomes a longtable.
 LONGTABLE_ROWS = 30
@@ -316,7 +316,7 @@ class CaseIsomorphism:
     seed: Optional[int] = None
     seed_origin: str = ""                 # where the seed comes from, for the block
     result: object = None                 # compare.iso.IsoResult
-    legend: List[Tuple[str, str]] = field(default_factory=list)   # (name, meaning), LaTeX
+    legend: List[Tuple[str, str]] = field(default_factory=list)   # (name, LaTeX of its class)
     note: Optional[str] = None            # why nothing was computed
 
 
@@ -402,10 +402,11 @@ def _verdict(result) -> str:
     return "Found, not verified" if result.found else result.status.capitalize()
 
 
-def _formula_pairs(direction) -> List[Tuple[str, str]]:
-    """(target, formula) in the LaTeX of reports/isomorphism.py."""
-    from .isomorphism import latex_name, formula_latex
-    return [(latex_name(f.target), formula_latex(f, direction.source_generators))
+def _formula_pairs(direction, symbol_latex: Dict[str, str]) -> List[Tuple[str, str]]:
+    """(target, formula) in LaTeX, generators named as in the relations."""
+    from .isomorphism import formula_latex, target_latex
+    return [(target_latex(f.target, symbol_latex),
+             formula_latex(f, direction.source_generators, symbol_latex))
             for f in direction.formulas]
 
 
@@ -414,7 +415,6 @@ def _directions(result):
 
 
 def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
-    from .isomorphism import latex_name
     lines: List[str] = []
     for item in found:
         lines += [f"% {item.case}: {name} skipped for the isomorphism: {latex_escape(why)}"
@@ -430,20 +430,18 @@ def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
         if not result.found:
             lines.append(latex_escape(result.reason))
             continue
-        legend = ", ".join(f"${latex_name(name)} = {meaning}$" for name, meaning in item.legend)
-        lines.append(f"Generators: {legend}.")
+        symbol_latex = dict(item.legend)
         for title, direction in _directions(result):
             lines += [latex_escape(f"{title} ({direction.target} generators in "
                                    f"{direction.source} generators):"), r"\begin{align*}"]
             lines += [f"  {target} &= {formula} \\\\" for target, formula in
-                      _formula_pairs(direction)]
+                      _formula_pairs(direction, symbol_latex)]
             lines[-1] = lines[-1].rstrip(" \\")
             lines.append(r"\end{align*}")
     return lines
 
 
 def isomorphisms_markdown(found: Sequence[CaseIsomorphism]) -> List[str]:
-    from .isomorphism import latex_name
     lines: List[str] = []
     for item in found:
         for name, why in item.skipped:
@@ -457,12 +455,11 @@ def isomorphisms_markdown(found: Sequence[CaseIsomorphism]) -> List[str]:
         if not result.found:
             lines += ["", result.reason]
             continue
-        legend = ", ".join(f"${latex_name(name)} = {meaning}$" for name, meaning in item.legend)
-        lines += ["", f"Generators: {legend}."]
+        symbol_latex = dict(item.legend)
         for title, direction in _directions(result):
             lines += ["", f"{title} ({direction.target} generators in {direction.source} "
                           "generators):", ""]
-            for target, formula in _formula_pairs(direction):
+            for target, formula in _formula_pairs(direction, symbol_latex):
                 lines += ["$$", f"{target} = {formula}", "$$", ""]
     return lines
 

@@ -218,7 +218,7 @@ def test_iso_json_contract():
 def test_iso_latex_and_text():
     latex = run("iso", "Fl(3)", "--from", "toda", "--to", "whitney", "--latex", "--seed", "2")
     assert latex.returncode == 0, latex.stderr
-    assert "\\begin{align*}" in latex.stdout and "\\frac{Q_{1,1}}{1 - q_{1}}" in latex.stdout
+    assert "\\begin{align*}" in latex.stdout and "\\frac{\\lambda_{1}(Q_{1})}{1 - q_{1}}" in latex.stdout
     text = run("iso", "Gr(2,4)", "--from", "vieta", "--to", "whitney", "--seed", "3")
     assert "found, verified" in text.stdout and "Q1_2 = w1_2*(1 - q1)" in text.stdout
 

@@ -345,11 +345,11 @@ def change_of_variables(case):
         q = sympy.Symbol(f"q{i}")
         for j in range(1, flag.k(i) + 1):
             S = sympy.Symbol(f"S{i}_{j}")
-            names[S] = f"S_{{{i},{j}}}"
+            names[S] = rf"\lambda_{{{j}}}(S_{{{i}}})"
             inverse[S] = forward[S] = S
         for j in range(1, flag.d(i) + 1):
             Q, w = sympy.Symbol(f"Q{i}_{j}"), sympy.Symbol(f"w{i}_{j}")
-            names[Q], names[w] = f"Q_{{{i},{j}}}", f"w_{{{i},{j}}}"
+            names[Q], names[w] = rf"\lambda_{{{j}}}(Q_{{{i}}})", rf"e_{{{j}}}(Y^{{({i})}})"
             top = j == flag.d(i)
             inverse[Q] = w * (1 - q) if top else w
             forward[w] = Q / (1 - q) if top else Q
@@ -381,8 +381,8 @@ def test_isomorphisms_latex_give_the_change_of_variables(iso_store):
         blocks = align_blocks(text, title)
         assert blocks == [forward, inverse], case
     # Gr(2;4): the one non-trivial generator, Q1_2 = (1 − q1)·w1_2
-    assert r"Q_{1,2} &= w_{1,2} \left(1 - q_{1}\right)" in text
-    assert r"Q_{1,1} &= w_{1,1} \\" in text
+    assert r"\lambda_{2}(Q_{1}) &= e_{2}(Y^{(1)}) \left(1 - q_{1}\right)" in text
+    assert r"\lambda_{1}(Q_{1}) &= e_{1}(Y^{(1)}) \\" in text
     # bethe is skipped with a reason in a comment; the pair is then whitney, vieta
     assert "% P2: bethe skipped for the isomorphism: its generators are Chern roots" in text
     assert r"\paragraph{Isomorphism P2, whitney $\to$ vieta}" in text
@@ -404,7 +404,7 @@ def test_isomorphisms_markdown_has_the_same_formulas(iso_store):
         inverse, forward = change_of_variables(case)
         for target, formula in {**inverse, **forward}.items():
             assert f"$$\n{target} = {formula}\n$$" in text, (case, target)
-    assert "$$\nQ_{1,2} = w_{1,2} \\left(1 - q_{1}\\right)\n$$" in text
+    assert "$$\n\\lambda_{2}(Q_{1}) = e_{2}(Y^{(1)}) \\left(1 - q_{1}\\right)\n$$" in text
     assert "Note: P2: bethe skipped for the isomorphism" in text
     footnote = text.split("[^reproduce]: ")[1]
     assert "isomorphisms computed with compare.iso.find_isomorphism" in footnote
@@ -419,7 +419,7 @@ def test_isomorphisms_latex_compiles(iso_store, tmp_path):
 def test_cli_table_isomorphisms(iso_store):
     run = run_cli("table", str(iso_store), "--format", "markdown", "--isomorphisms")
     assert run.returncode == 0, run.stderr
-    assert "$$\nQ_{2,1} = w_{2,1} \\left(1 - q_{2}\\right)\n$$" in run.stdout   # Fl(3)
+    assert "$$\n\\lambda_{1}(Q_{2}) = e_{1}(Y^{(2)}) \\left(1 - q_{2}\\right)\n$$" in run.stdout   # Fl(3)
     assert "--isomorphisms" in run.stdout.split("produced by: ")[1].splitlines()[0]
     csv_run = run_cli("table", str(iso_store), "--format", "csv", "--isomorphisms")
     assert csv_run.returncode == 0 and "isomorphisms computed" not in csv_run.stdout
