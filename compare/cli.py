@@ -17,7 +17,7 @@ from ringmatch.errors import InputError, RingmatchError, UsageError
 from ringmatch.presentations import FAMILIES, get_family
 from ringmatch.presentations.flagtype import FlagType, FlagTypeError, parse_flag
 from ringmatch.presentations.interface import PresentationError, build_symbolic
-from ringmatch.presentations.userfile import PresentationFileError
+from ringmatch.presentations.userfile import ParameterValuesMissing, PresentationFileError
 
 from . import algebra
 
@@ -51,6 +51,8 @@ def presentation_list(text: str) -> List[str]:
     for name in names:
         try:
             family_names.append(get_family(name).name)
+        except ParameterValuesMissing as error:   # values may still come from --set
+            family_names.append(error.family_name)
         except KeyError as error:
             raise argparse.ArgumentTypeError(str(error.args[0])) from None
         except PresentationFileError as error:   # one line naming file:line:col
@@ -63,11 +65,20 @@ def presentation_list(text: str) -> List[str]:
     return names
 
 
-def resolve_family(name: str):
+def resolve_family(name: str, args=None):
+    """The family of a name; with `args`, a presentation file's parameters take the values
+    of the command's --set options (compare/parameters.py)."""
+    from . import parameters
+    values = parameters.values_of(args) if args is not None else None
     try:
-        return get_family(name)
+        return get_family(name, values)
     except KeyError as error:
         raise UsageError(str(error.args[0])) from None
+
+
+def _check_settings(args, names) -> None:
+    from . import parameters
+    parameters.check_known(parameters.values_of(args), names)
 
 
 def int_list(option: str, text: str) -> List[int]:
@@ -128,7 +139,8 @@ def emit(args, result: dict, human: str) -> None:
 
 def cmd_relations(args) -> int:
     from ringmatch.reports.formulas import presentation_text
-    family = resolve_family(args.presentation)
+    _check_settings(args, [args.presentation])
+    family = resolve_family(args.presentation, args)
     presentation = build_symbolic(family, args.case, equivariant=not args.plain)
     print(presentation_text(presentation, latex=args.latex))
     return 0
@@ -137,7 +149,8 @@ def cmd_relations(args) -> int:
 def cmd_check(args) -> int:
     from ringmatch.reports.summary import check_text
     from .engine import check_case
-    families = [resolve_family(name) for name in args.presentations]
+    _check_settings(args, args.presentations)
+    families = [resolve_family(name, args) for name in args.presentations]
     if not args.plain and args.prime - 2 < args.case.n:
         raise UsageError(f"--prime {args.prime} is too small for {args.case.n} distinct weights")
     if args.report is not None:
@@ -158,7 +171,8 @@ def cmd_check(args) -> int:
 def cmd_presentations(args) -> int:
     from ringmatch.presentations import plugins, userfile
     if args.case_file is not None:
-        family = resolve_family(args.of)
+        _check_settings(args, [args.of])
+        family = resolve_family(args.of, args)
         print(userfile.case_file_text(family, args.case_file, equivariant=not args.plain), end="")
         return 0
     lines = plugins.catalogue(FAMILIES, userfile.shipped_files())
@@ -207,7 +221,8 @@ def cmd_iso(args) -> int:
     if args.prime < 2**40:
         raise UsageError(f"--prime {args.prime}: iso needs a prime of at least 2^40 (further "
                          "primes are taken 2^32 apart below it)")
-    source, target = resolve_family(args.source), resolve_family(args.target)
+    _check_settings(args, [args.source, args.target])
+    source, target = resolve_family(args.source, args), resolve_family(args.target, args)
     bounds = Bounds(max_degree=args.max_degree, max_terms=args.max_terms, order=args.order)
     try:
         result = find_isomorphism(args.case, source, target, bounds=bounds, seed=args.seed,
@@ -274,6 +289,7 @@ def build_parser() -> argparse.ArgumentParser:
     from ringmatch import __version__
     parser.add_argument("--version", action="version", version=f"ringmatch {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    from . import parameters
 
     p = sub.add_parser("relations", help="print the generators and relations of a presentation")
     p.add_argument("case", type=flag_argument, help="flag type, e.g. 'Fl(1,3;5)', 'Gr(2,5)', P4")
@@ -281,6 +297,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help=f"family name ({', '.join(sorted(FAMILIES))}); default whitney")
     p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
     p.add_argument("--latex", action="store_true", help="LaTeX instead of plain text")
+    parameters.add_argument(p)
     p.set_defaults(run=cmd_relations)
 
     p = sub.add_parser("check", help="decide whether presentations of one case agree")
@@ -300,6 +317,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--report", metavar="DIR",
                    help="also write a Markdown and a JSON report of the case into DIR")
+    parameters.add_argument(p)
     p.set_defaults(run=cmd_check)
 
     p = sub.add_parser("presentations",
@@ -312,6 +330,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="presentation written by --case-file (name or file); default whitney")
     p.add_argument("--plain", action="store_true", help="with --case-file: all T_j = 1")
     p.add_argument("--json", action="store_true", help="the list as JSON")
+    parameters.add_argument(p)
     p.set_defaults(run=cmd_presentations)
 
     p = sub.add_parser("points", help="lift the torus-fixed points to Bethe points in F_p[[s]]")
@@ -375,6 +394,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--latex", action="store_true", help="formulas in LaTeX")
+    parameters.add_argument(p)
     p.set_defaults(run=cmd_iso)
 
     from . import demo, sweep_command
