@@ -110,7 +110,10 @@ def sweep_settings(presentations: Sequence, *, equivariant: bool = True, seed: i
 def settings_key(settings: dict) -> str:
     # A file is identified by its content, not by the path it was reached through.
     comparable = dict(settings)
-    comparable["presentations"] = [p.get("sha256", p["name"]) for p in settings["presentations"]]
+    # A parameterised file's values are part of what it presents.
+    comparable["presentations"] = [p.get("sha256", p["name"]) if "values" not in p
+                                   else [p.get("sha256", p["name"]), p["values"]]
+                                   for p in settings["presentations"]]
     text = json.dumps(comparable, sort_keys=True, separators=(",", ":"))
     return hashlib.sha256(text.encode()).hexdigest()[:32]
 

@@ -106,15 +106,21 @@ def case_seed(sweep_seed: int, flag: FlagType) -> int:
 class Source:
     name: str                      # as the user gave it
     raw: Optional[bytes] = None    # file content; None for built-in and plug-in families
+    values: Tuple[Tuple[str, int], ...] = ()   # a parameterised file's values (all of them)
 
     def record(self) -> dict:
         if self.raw is None:
             return {"name": self.name}
-        return {"name": self.name, "sha256": hashlib.sha256(self.raw).hexdigest()}
+        record = {"name": self.name, "sha256": hashlib.sha256(self.raw).hexdigest()}
+        if self.values:
+            record["values"] = dict(self.values)
+        return record
 
 
-def load_sources(names: Sequence[str]) -> List[Source]:
+def load_sources(names: Sequence[str], values: Optional[Dict[str, int]] = None) -> List[Source]:
+    """`values`: the --set values; each file keeps those it declares (defaults for the rest)."""
     from ringmatch.presentations import FAMILIES, userfile
+    from ringmatch.presentations.userfile_container import read_bytes
     sources = []
     for name in names:
         path = None
@@ -126,10 +132,12 @@ def load_sources(names: Sequence[str]) -> List[Source]:
             sources.append(Source(name))
             continue
         try:
-            sources.append(Source(name, path.read_bytes()))
+            raw = path.read_bytes()
         except OSError as error:
             raise userfile.PresentationFileError(
                 f"cannot read the file: {error.strerror or error}", name) from None
+        bound = userfile.bind_values(read_bytes(raw, name), values)
+        sources.append(Source(name, raw, tuple(bound.items())))
     return sources
 
 
@@ -140,7 +148,7 @@ def family_of(source: Source):
     from ringmatch.presentations.userfile_container import read_bytes
     if source.raw is None:
         return get_family(source.name)
-    return family_from_spec(read_bytes(source.raw, source.name))
+    return family_from_spec(read_bytes(source.raw, source.name), dict(source.values))
 
 
 def unsupported_reasons(flag: FlagType, sources: Sequence[Source]) -> List[str]:
@@ -504,8 +512,9 @@ class SweepOutcome:
 
 
 def plan_sweep(flags: Sequence[FlagType], names: Sequence[str], *, seed: int, prime: int,
-               equivariant: bool, order: int, trials: int, method: str) -> SweepPlan:
-    sources = load_sources(names)
+               equivariant: bool, order: int, trials: int, method: str,
+               values: Optional[Dict[str, int]] = None) -> SweepPlan:
+    sources = load_sources(names, values)
     settings = store.sweep_settings([s.record() for s in sources], equivariant=equivariant,
                                     seed=seed, prime=prime, order=order, trials=trials,
                                     method=method)

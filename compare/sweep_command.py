@@ -18,7 +18,8 @@ from .sweep import (DEFAULT_STORE, KINDS, MAX_SWEEP_N, Limits, available_cores, 
 
 
 def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
-    from . import algebra
+    from . import algebra, parameters
+    parameters.add_argument(parser)
     parser.add_argument("--max-n", type=positive_int, metavar="N",
                         help="largest ambient dimension n")
     parser.add_argument("--min-n", type=positive_int, default=2, metavar="N",
@@ -104,9 +105,11 @@ def command(args) -> int:
             import distributed   # noqa: F401
         except ImportError:
             raise UsageError("--cluster needs Dask: pip install 'ringmatch[cluster]'") from None
+    from . import parameters
+    values = parameters.resolved(args, args.presentations)
     plan = plan_sweep(flags, args.presentations, seed=args.seed, prime=args.prime,
                       equivariant=not args.plain, order=args.order, trials=args.trials,
-                      method=args.method)
+                      method=args.method, values=values)
     limits = Limits(args.case_timeout, args.case_memory)
     progress = terminal_progress()
     try:
