@@ -5,27 +5,35 @@ a list (`nmod_mpoly_divrem_ideal`, a heap-based division that reduces every term
 the first divisor whose leading monomial divides it).  Repeating `%` instead costs a pass
 over f for every divisor used, and those passes are most of the time of a Gröbner basis
 computation (DEVELOPERS.md, "The Gröbner engine").  This module calls the FLINT function
-from the FLINT library that python-flint itself ships, through ctypes.
+through ctypes, from the FLINT library python-flint has loaded (the one mapped into the
+process, never a file found by name), when it is the FLINT version python-flint reports.
 
 Calling it needs the addresses of FLINT's structs inside python-flint's objects, which
 python-flint does not publish.  They are found at run time, and the call is made only when
 everything checks out: the polynomial object must hold its context's address right after a
 FLINT polynomial struct whose length field is the polynomial's length, the context object
 must hold the variable count and the modulus where FLINT's context layout puts them, and
-the routine must reproduce a worked normal form.  Otherwise — another python-flint or FLINT
+the routine must reproduce a worked normal form — first in a forked child, since a routine
+of another signature might crash.  Otherwise — another python-flint or FLINT
 release, another Python, or RINGMATCH_PURE_DIVISION set in the environment —
 `Divisors.native` is false and `remainder` repeats `%` instead, steered by a lookup of
 which divisor's leading monomial divides which monomial.  Both give a remainder none
 of whose terms is divisible by a divisor's leading monomial; for a Gröbner basis that is
 the normal form, so results never depend on which one ran.
+
+The routine puts arrays per divisor on the C stack (`stack_bytes`); a division that needs
+more than a small share of a thread's stack runs on a thread with a stack large enough,
+or, when no such thread can be had, by the repeated division.
 """
 from __future__ import annotations
 
 import ctypes
-import glob
 import operator
 import os
 import struct
+import sys
+import threading
+import time
 from dataclasses import dataclass, field
 from typing import Dict, List, Optional, Sequence, Tuple
 
@@ -46,20 +54,40 @@ def _object_words(obj) -> tuple:
     return struct.unpack(f"{len(raw) // _WORD}Q", raw[: len(raw) // _WORD * _WORD])
 
 
-def _load_routine():
-    if struct.calcsize("P") != _WORD:
+def _loaded_flint_library() -> Optional[str]:
+    """The path of the FLINT library mapped into this process, which python-flint loaded:
+    a file found by name beside python-flint might be another build."""
+    try:
+        with open("/proc/self/maps") as maps:
+            paths = {line.split(None, 5)[5].strip() for line in maps
+                     if len(line.split(None, 5)) == 6}
+    except OSError:
         return None
-    libdir = os.path.join(os.path.dirname(os.path.dirname(flint.__file__)), "python_flint.libs")
-    for path in sorted(glob.glob(os.path.join(libdir, "libflint*.so*"))):
-        try:
-            routine = ctypes.CDLL(path).nmod_mpoly_divrem_ideal
-        except (OSError, AttributeError):
-            continue
-        routine.restype = None
-        routine.argtypes = [ctypes.c_void_p, ctypes.c_void_p, ctypes.c_void_p,
-                            ctypes.c_void_p, ctypes.c_long, ctypes.c_void_p]
-        return routine
-    return None
+    found = {path for path in paths
+             if os.path.basename(path).startswith("libflint") and ".so" in path}
+    return found.pop() if len(found) == 1 else None
+
+
+def _load_routine():
+    # id() is an object's address only in CPython, and the word size is assumed below.
+    if sys.implementation.name != "cpython" or struct.calcsize("P") != _WORD:
+        return None
+    path, no_load = _loaded_flint_library(), getattr(os, "RTLD_NOLOAD", None)
+    if path is None or no_load is None:
+        return None
+    try:
+        # RTLD_NOLOAD: only the copy already in memory, never a second one loaded here.
+        library = ctypes.CDLL(path, mode=os.RTLD_NOW | no_load)
+        routine = library.nmod_mpoly_divrem_ideal
+        version = (ctypes.c_char * 16).in_dll(library, "flint_version").value
+    except (OSError, AttributeError, ValueError):
+        return None
+    if version.decode("ascii", "replace") != getattr(flint, "__FLINT_VERSION__", None):
+        return None     # not the FLINT python-flint was built against
+    routine.restype = None
+    routine.argtypes = [ctypes.c_void_p, ctypes.c_void_p, ctypes.c_void_p,
+                        ctypes.c_void_p, ctypes.c_long, ctypes.c_void_p]
+    return routine
 
 
 def _poly_offset(ctx) -> Optional[int]:
@@ -102,15 +130,69 @@ def _layout(ctx) -> Optional[tuple]:
         return None     # FLINT aborts the process on a leading coefficient it cannot invert
     key = id(ctx)
     if key not in _LAYOUTS:
-        layout = None
-        poly, context = _poly_offset(ctx), _context_offset(ctx)
-        if poly is not None and context is not None:
-            layout = (poly, context)
-            if not _worked_example(ctx, layout):
-                layout = None
+        layout = _checked_layout(ctx)
+        if layout is not None and not _first_call_survives():
+            layout = None
+        if layout is not None and not _worked_example(ctx, layout):
+            layout = None
         _LAYOUTS[key] = layout
         _CONTEXTS[key] = ctx
     return _LAYOUTS[key]
+
+
+def _checked_layout(ctx) -> Optional[tuple]:
+    poly, context = _poly_offset(ctx), _context_offset(ctx)
+    return None if poly is None or context is None else (poly, context)
+
+
+_FIRST_CALL: Dict[str, bool] = {}     # "survived" once decided in this process (or a parent)
+_FIRST_CALL_SECONDS = 20.0
+
+
+def _first_call_survives() -> bool:
+    """Whether the routine reproduces the worked normal forms in a forked child.
+
+    Everything that can be checked without calling it has been (the symbol of the loaded
+    library, its FLINT version, the struct layout), but not its signature: were it
+    another, the first call could crash or corrupt memory, and it should be the child's."""
+    if "survived" not in _FIRST_CALL:
+        _FIRST_CALL["survived"] = _run_first_call_in_child()
+    return _FIRST_CALL["survived"]
+
+
+def _run_first_call_in_child() -> bool:
+    if not hasattr(os, "fork"):
+        return False
+    try:
+        pid = os.fork()
+    except OSError:
+        return False
+    if pid == 0:    # the child: report by exit status only, run no cleanup of the parent
+        status = 1
+        try:
+            import faulthandler
+            faulthandler.disable()      # a crash here is an answer, not a report
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, 1)
+            os.dup2(devnull, 2)
+            ctx = flint.nmod_mpoly_ctx.get(("x", "y"), modulus=2**61 - 1, ordering="degrevlex")
+            layout = _checked_layout(ctx)
+            status = 0 if layout is not None and _worked_example(ctx, layout) else 1
+        finally:
+            os._exit(status)
+    deadline = time.monotonic() + _FIRST_CALL_SECONDS
+    while True:
+        try:
+            done, status = os.waitpid(pid, os.WNOHANG)
+        except ChildProcessError:
+            return False
+        if done:
+            return os.WIFEXITED(status) and os.WEXITSTATUS(status) == 0
+        if time.monotonic() > deadline:     # a hung routine is as bad as a crashed one
+            os.kill(pid, 9)
+            os.waitpid(pid, 0)
+            return False
+        time.sleep(0.002)
 
 
 def _worked_example(ctx, layout) -> bool:
@@ -144,6 +226,74 @@ def _flint_remainder(f, divisor_addresses, quotient_addresses, count: int, layou
     _ROUTINE(quotient_addresses, id(remainder) + poly_offset, id(f) + poly_offset,
              divisor_addresses, count, id(ctx) + ctx_offset)
     return remainder
+
+
+# The C stack FLINT's routine takes.  Its temporary arrays come from FLINT's TMP_ALLOC: on
+# the stack up to 8 KiB each, from the heap beyond (leaving a 16-byte record on the stack).
+# With exponents of more than one word (more than about 8 variables) it takes two such
+# arrays per divisor, sized by the divisor's length, so that a long list of long divisors
+# overflows an 8 MiB stack (a segmentation fault, not an exception).
+_TMP_ON_STACK = 8192
+_FRAMES = 4096                    # the routine's own frames, generously
+_DIRECT_STACK = 256 * 1024        # taken on the calling thread, whatever thread that is
+_MAX_THREAD_STACK = 1 << 30       # beyond: the pure path (address space under --case-memory)
+
+
+def _tmp_block(size: int) -> int:
+    return (16 if size > _TMP_ON_STACK else (size + 15) // 16 * 16) + 16
+
+
+def _divisor_stack(length: int) -> int:
+    """The two per-divisor arrays: heap chain nodes (4 words each) and indices (1 word)."""
+    return _tmp_block(32 * length) + _tmp_block(8 * length)
+
+
+def stack_bytes(divisor_lengths: Sequence[int]) -> int:
+    """A bound on the C stack FLINT's routine takes to divide by divisors of these lengths."""
+    return _stack_bytes(len(divisor_lengths), sum(divisor_lengths),
+                        sum(map(_divisor_stack, divisor_lengths)))
+
+
+def _stack_bytes(count: int, terms: int, per_divisor: int) -> int:
+    # arrays of one word per divisor (seven of them, with the entry point's), and the heap,
+    # the store of popped entries, the exponents and their list, sized by the total length
+    # (the exponent array by a word count not known here: taken at its cap)
+    fixed = 7 * _tmp_block(8 * count) + _tmp_block(16 * (terms + 1)) + \
+        _tmp_block(24 * terms) + _tmp_block(_TMP_ON_STACK + 1) + _tmp_block(8 * terms)
+    return _FRAMES + fixed + per_divisor
+
+
+_THREAD_LOCK = threading.Lock()
+
+
+def _remainder_on_large_stack(f, divisor_addresses, quotient_addresses, count, layout,
+                              stack: int):
+    """The routine on a thread of its own whose stack holds what it takes; None when such
+    a thread cannot be had (the caller divides without FLINT's routine then)."""
+    size = -(-(2 * stack + (1 << 20)) // (1 << 20)) * (1 << 20)
+    if size > _MAX_THREAD_STACK:
+        return None
+    answer: List = []
+
+    def work():
+        answer.append(_flint_remainder(f, divisor_addresses, quotient_addresses, count,
+                                       layout))
+    # stack_size is one setting for the whole process: set, start and restore it together
+    with _THREAD_LOCK:
+        try:
+            previous = threading.stack_size(size)
+        except (ValueError, RuntimeError):
+            return None
+        try:
+            worker = threading.Thread(target=work, name="ringmatch-flint-division",
+                                      daemon=True)
+            worker.start()
+        except (RuntimeError, MemoryError):
+            return None
+        finally:
+            threading.stack_size(previous)
+    worker.join()
+    return answer[0] if answer else None
 
 
 @dataclass
@@ -210,6 +360,9 @@ class Divisors:
         self._quotients: List = []
         self._divisor_array = None
         self._quotient_array = None
+        # per prefix of the list: number of terms and FLINT's per-divisor stack, summed
+        self._terms: List[int] = [0]
+        self._stack: List[int] = [0]
         for g in polys:
             self.append(g)
 
@@ -223,14 +376,22 @@ class Divisors:
         if self._layout is not None:
             self._quotients.append(self._ctx.constant(0))
             self._point_at(len(self.polys) - 1)
+            self._terms.append(self._terms[-1] + len(g))
+            self._stack.append(self._stack[-1] + _divisor_stack(len(g)))
 
     def replace(self, index: int, g) -> None:
         self._admit(g)
         if g.monomial(0) != self.polys[index].monomial(0):
             raise ValueError("a replacement must keep the leading monomial")
+        old_length = len(self.polys[index])
         self.polys[index] = g
         if self._layout is not None:
             self._point_at(index)
+            if len(g) != old_length:
+                for k in range(index + 1, len(self.polys) + 1):
+                    length = len(self.polys[k - 1])
+                    self._terms[k] = self._terms[k - 1] + length
+                    self._stack[k] = self._stack[k - 1] + _divisor_stack(length)
 
     def _point_at(self, index: int) -> None:
         if self._divisor_array is None or index >= len(self._divisor_array):
@@ -262,8 +423,13 @@ class Divisors:
             raise ValueError("all polynomials must belong to the same nmod_mpoly context")
         if self._layout is None:
             return self._steered_remainder(f, count)
-        return _flint_remainder(f, self._divisor_array, self._quotient_array, count,
-                                self._layout)
+        stack = _stack_bytes(count, self._terms[count], self._stack[count])
+        if stack <= _DIRECT_STACK:
+            return _flint_remainder(f, self._divisor_array, self._quotient_array, count,
+                                    self._layout)
+        remainder = _remainder_on_large_stack(f, self._divisor_array, self._quotient_array,
+                                              count, self._layout, stack)
+        return self._steered_remainder(f, count) if remainder is None else remainder
 
     def _steered_remainder(self, f, count: int):
         """The same by python-flint's division by one element, repeated.

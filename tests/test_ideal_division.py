@@ -129,7 +129,7 @@ def test_a_list_longer_than_the_first_address_arrays(division_path):
 
 
 def test_environment_variable_turns_the_flint_routine_off():
-    code = ("import flint; from compare import ideal_division as d; "
+    code = ("import flint; from ringmatch.compare import ideal_division as d; "
             "ctx = flint.nmod_mpoly_ctx.get(('x',), modulus=101, ordering='lex'); "
             "print(d.Divisors([ctx.gen(0)]).native)")
     env = dict(os.environ, **{ideal_division.DISABLE_VARIABLE: "1"})
@@ -237,3 +237,81 @@ def test_lex_example_where_superseded_divisors_matter(monkeypatch):
     assert all(groebner.is_member(f, through_flint) for f in ideal)
     monkeypatch.setattr(ideal_division, "_ROUTINE", None)
     assert groebner.groebner_basis(ideal) == through_flint
+
+
+# A divisor list that overflowed an 8 MiB C stack inside FLINT's routine (issue: a sweep
+# worker died of a segmentation fault on Fl(1,2,3;5)): 1200 divisors of 250 terms in 12
+# variables, so that exponents take two words and FLINT puts two arrays per divisor on
+# the stack.  Run in a child process: a crash must fail this test, not end pytest.
+LONG_DIVISOR_LIST = """
+import flint
+from ringmatch.compare import ideal_division
+n = 12
+ctx = flint.nmod_mpoly_ctx.get([f"x{i}" for i in range(n)], modulus=4611686018427387847,
+                               ordering="degrevlex")
+x = ctx.gens()
+divisors = []
+for k in range(1200):
+    lead = [0] * n
+    lead[k % n], lead[(k // n) % n] = 6 + k // 144, 4
+    terms = {tuple(lead): 1}
+    for t in range(600):
+        e = [0] * n
+        e[t % n] += 1
+        e[(t // n) % n] += 1
+        e[(t * 7 + k) % n] += 1 + t // 144
+        terms[tuple(e)] = t + 1
+    divisors.append(ctx.from_dict(dict(list(terms.items())[:250])))
+divisors.append(x[n - 1] - 1)
+print(ideal_division.stack_bytes([len(g) for g in divisors]))
+print(ideal_division.Divisors(divisors).remainder(x[0] + 3 * x[n - 1]))
+"""
+
+
+@pytest.mark.parametrize("pure", [False, True])
+def test_a_divisor_list_that_overflowed_the_stack(pure):
+    env = dict(os.environ)
+    env.pop(ideal_division.DISABLE_VARIABLE, None)
+    if pure:
+        env[ideal_division.DISABLE_VARIABLE] = "1"
+    done = subprocess.run([sys.executable, "-c", LONG_DIVISOR_LIST], cwd=ROOT, env=env,
+                          capture_output=True, text=True, timeout=600)
+    assert done.returncode == 0, (done.returncode, done.stderr[-2000:])
+    stack, remainder = done.stdout.split("\n")[:2]
+    assert int(stack) > 8 << 20          # more than the usual main-thread stack
+    assert remainder == "x0 + 3"
+
+
+def test_stack_estimate_grows_with_the_divisors():
+    assert ideal_division.stack_bytes([3] * 10) < ideal_division._DIRECT_STACK
+    short, long = ideal_division.stack_bytes([250] * 100), ideal_division.stack_bytes([250] * 200)
+    assert long - short >= 100 * 250 * 40       # two arrays of 4 + 1 words per term
+    # beyond 8 KiB an array comes from the heap: the stack share of one divisor is bounded
+    assert ideal_division.stack_bytes([10**6]) - ideal_division.stack_bytes([10**5]) < 64
+
+
+def test_the_routine_comes_from_the_flint_library_in_memory():
+    if ideal_division._ROUTINE is None:
+        pytest.skip(ideal_division.description(context()))
+    path = ideal_division._loaded_flint_library()
+    with open("/proc/self/maps") as maps:
+        assert path in maps.read()
+    assert os.path.basename(path).startswith("libflint")
+
+
+def test_a_routine_that_crashes_on_its_first_call_is_not_used(monkeypatch):
+    """A routine with another signature may crash: that happens in a child process."""
+    if not hasattr(os, "fork"):
+        pytest.skip("no fork on this platform")
+    import ctypes
+    monkeypatch.setattr(ideal_division, "_ROUTINE", ctypes.CDLL(None).abort)
+    monkeypatch.setattr(ideal_division, "_FIRST_CALL", {})
+    monkeypatch.setattr(ideal_division, "_LAYOUTS", {})
+    ctx = context(names=("u", "v"))
+    assert not ideal_division.available(ctx)          # and this process is still here
+    assert ideal_division.Divisors([ctx.gen(0) - 1]).remainder(ctx.gen(0) ** 2) == 1
+
+
+def test_no_addresses_are_read_outside_cpython(monkeypatch):
+    monkeypatch.setattr(sys.implementation, "name", "pypy")
+    assert ideal_division._load_routine() is None
