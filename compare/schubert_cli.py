@@ -1,0 +1,148 @@
+"""The `ringmatch schubert` subcommand: Schubert structure constants of one case.
+
+Exit status: 0 when every check passes (and, with several presentations, their tables agree;
+with `--basis all`, when some candidate passes every check), 1 when a check fails, 2 for a
+usage error.
+"""
+from __future__ import annotations
+
+import json
+from typing import List
+
+from ringmatch.errors import InputError
+from ringmatch.presentations import get_family
+from ringmatch.presentations import schubert_bases as sb
+from ringmatch.presentations import schubert_files
+
+from . import algebra
+from . import schubert as engine
+
+
+def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_negative_int) -> None:
+    p.add_argument("case", type=flag_argument, help="e.g. 'Gr(2,5)', P3, or a partial flag "
+                                                   "with a basis file")
+    p.add_argument("--presentation", type=presentation_list, default=["whitney"],
+                   metavar="NAME[,NAME…]",
+                   help="presentation(s) to compute in; with two or more, their tables are "
+                        "also compared (default whitney)")
+    p.add_argument("--basis", default=None, metavar="BASIS",
+                   help="auto (Grassmannians: the first built-in candidate passing every "
+                        "check), all (report every built-in candidate), one of "
+                        + ", ".join(c.name for c in sb.CANDIDATES)
+                        + ", or a .toml file with a [schubert] table; default: the "
+                          "presentation file's own [schubert] table, else auto")
+    p.add_argument("--seed", type=int, help="seed for the random q values (recorded)")
+    p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME,
+                   help="a prime of at least 2^40 (the integer lifting needs room)")
+    p.add_argument("--q-degree", type=non_negative_int, metavar="D",
+                   help="stated bound on the q-degree of the constants (default min(k, n-k) "
+                        "for Gr(k;n), n-1 otherwise); the interpolation must stabilise below "
+                        "D+1")
+    p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    p.add_argument("--latex", action="store_true", help="a LaTeX fragment for an appendix")
+    p.add_argument("--checks-only", action="store_true",
+                   help="text: leave out the multiplication table")
+
+
+def command(args) -> int:
+    from .cli import UsageError
+    try:
+        return _run(args)
+    except InputError as error:
+        raise UsageError(str(error)) from None
+
+
+def _basis_for(args, flag, presentation_name: str):
+    choice = args.basis
+    if choice is None:
+        if presentation_name.endswith(".toml") and \
+                schubert_files.has_schubert_table(presentation_name):
+            choice = presentation_name
+        elif flag.is_grassmannian:
+            choice = "auto"
+        else:
+            raise engine.SchubertError(f"{flag.name} is not a Grassmannian: give a basis "
+                                       "file with --basis FILE.toml ([schubert] table)")
+    if choice in ("auto", "all"):
+        if not flag.is_grassmannian:
+            raise engine.SchubertError(f"--basis {choice}: the built-in candidates are for "
+                                       "Grassmannians only")
+        return choice
+    if choice.startswith("groth:"):
+        return engine.candidate_basis(flag, sb.candidate_named(choice))
+    if not choice.endswith(".toml"):
+        sb.candidate_named(choice)      # raises the one-line list of known names
+    loaded = schubert_files.load_basis(choice, flag)
+    if loaded.candidate is not None:
+        basis = engine.candidate_basis(flag, loaded.candidate)
+        return engine.Basis(loaded.name, basis.labels, loaded.candidate,
+                            source=f"{loaded.source}: {basis.source}")
+    return engine.Basis(loaded.name, loaded.labels, polynomials=loaded.polynomials,
+                        source=loaded.source)
+
+
+def _run(args) -> int:
+    from ringmatch.reports import schubert as report
+    if args.json and args.latex:
+        raise engine.SchubertError("--json and --latex exclude each other")
+    if args.prime < 2**40:
+        raise engine.SchubertError(f"--prime {args.prime}: needs a prime of at least 2^40")
+    flag = args.case
+    options = dict(seed=args.seed, prime=args.prime, degree_bound=args.q_degree)
+    if args.basis == "all":
+        return _all_candidates(args, flag, options, report)
+    results = []
+    for name in args.presentation:
+        family = get_family(name)
+        basis = _basis_for(args, flag, name)
+        if basis == "auto":
+            result = engine.choose_candidate(flag, family, **options)
+        else:
+            result = engine.structure_constants(flag, family, basis, **options)
+        if options["seed"] is None:     # every presentation at the same q values
+            options["seed"] = result.certificate["seed"]
+        results.append(result)
+    comparisons = []
+    for other in results[1:]:
+        difference = engine.first_difference(results[0], other)
+        comparisons.append((results[0], other, difference))
+    if args.json:
+        payload = report.as_json(results[0]) if len(results) == 1 else {
+            "runs": [report.as_json(r) for r in results],
+            "comparisons": [{"first": a.presentation, "second": b.presentation,
+                             "same_table": d is None, "difference": d}
+                            for a, b, d in comparisons]}
+        print(json.dumps(payload, indent=2))
+    elif args.latex:
+        print("\n\n".join(report.as_latex(r) for r in results))
+    else:
+        texts = [report.as_text(r, table=not args.checks_only) for r in results]
+        texts += [report.comparison_text(a, b, d) for a, b, d in comparisons]
+        print("\n\n".join(texts))
+    ok = all(r.passed for r in results) and all(d is None for _, _, d in comparisons)
+    return 0 if ok else 1
+
+
+def _all_candidates(args, flag, options, report) -> int:
+    if not flag.is_grassmannian:
+        raise engine.SchubertError("--basis all: the built-in candidates are for Grassmannians")
+    outcomes, payload = {}, []
+    for name in args.presentation:
+        family = get_family(name)
+        for candidate in sb.CANDIDATES:
+            result = engine.structure_constants(flag, family,
+                                                engine.candidate_basis(flag, candidate),
+                                                **options)
+            options["seed"] = result.certificate["seed"]
+            label = candidate.name if len(args.presentation) == 1 else \
+                f"{candidate.name} in {family.name}"
+            outcomes[label] = [c["name"] for c in result.checks if not c["passed"]]
+            payload.append({"presentation": family.name, "basis": candidate.name,
+                            "checks": {c["name"]: c["passed"] for c in result.checks},
+                            "passed": result.passed})
+    if args.json:
+        print(json.dumps({"case": flag.name, "candidates": payload,
+                          "seed": options["seed"]}, indent=2))
+    else:
+        print(report.candidates_text(flag.name, outcomes))
+    return 0 if any(not failed for failed in outcomes.values()) else 1
