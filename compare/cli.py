@@ -408,6 +408,14 @@ def build_parser() -> argparse.ArgumentParser:
                                     "a conjecture's first counterexample is found and reported")
     demo.add_arguments(p, positive_int=positive_int)
     p.set_defaults(run=demo.command)
+
+    from . import schubert_cli
+    p = sub.add_parser("schubert", help="quantum K structure constants of a Schubert basis in "
+                                        "a presentation, checked against geometry")
+    schubert_cli.add_arguments(p, flag_argument=flag_argument,
+                               presentation_list=presentation_list,
+                               prime_argument=prime_argument, non_negative_int=non_negative_int)
+    p.set_defaults(run=schubert_cli.command)
     return parser
 
 
