@@ -3,9 +3,9 @@
 For every presentation it measures
   * colength at a random specialisation of T and q (Gröbner basis mod p, units inverted),
   * classical colength (the same at q = 0),
-  * "holds": every relation vanishes at every Bethe point to order s^N (DESIGN.md §2.3),
+  * "holds": every relation vanishes at every Bethe point to order s^N (docs/mathematics.md §2.3),
   * "complete": holds, classical colength = expected, and the generators separate the fixed
-    points — the Nakayama-type criterion of DESIGN.md §3 (arXiv:2310.03826).
+    points — the Nakayama-type criterion of docs/verdicts.md §4 (arXiv:2310.03826).
 For every pair it decides agreement:
   * through the common ring of λ-classes (compare/transport.py) when both presentations can
     be moved there exactly: equal reduced Gröbner bases, with witnesses both ways otherwise;
@@ -28,7 +28,7 @@ from ringmatch.presentations.vieta import det_S
 from . import algebra, groebner, points, transport
 
 # Gröbner bases grow superlinearly with the colength; above this the default method leaves a
-# presentation to the Bethe points (DESIGN.md §3: "use the points wherever they decide").
+# presentation to the Bethe points (docs/verdicts.md §8: the points first, where they decide).
 GROEBNER_COLENGTH_LIMIT = 150
 # For the Bethe equations in the roots the Gröbner basis is only a consistency check, and
 # saturating the Vandermonde products makes it far costlier per unit of colength (Fl(2,3;4),

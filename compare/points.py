@@ -1,4 +1,4 @@
-"""Bethe points (DESIGN.md §2.3): torus-fixed points lifted to power series, and "holds".
+"""Bethe points (docs/mathematics.md §2.3): torus-fixed points lifted to power series, and "holds".
 
 **Equations.**  For a Chern root x = X^(i)_a at level i (X^(m+1) = the weights T), the
 critical-point equation of §2.2 multiplied by x^{k_{i+1}} reads

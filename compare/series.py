@@ -3,7 +3,7 @@
 A series to order N is an `nmod_poly` of length at most N; every function that can create
 higher terms takes the order and truncates.  Several parameters q_1…q_m are put on one line
 through the origin, q_i = c_i·s, so that a multi-parameter expansion becomes a one-variable one
-(DESIGN.md §2.3).
+(docs/mathematics.md §2.3).
 
 FLINT aborts the whole process when asked to invert a series without a constant term, so
 `inverse` checks that first and raises `ZeroDivisionError` instead.

@@ -606,7 +606,7 @@ def first_disagreement(plan: SweepPlan, outcome: SweepOutcome) -> Optional[int]:
 def expected_cost(flag: FlagType) -> float:
     """A rough guess of a case's time for scheduling: Gröbner bases, which dominate, grow
     with the rank up to the automatic limit; above it a case goes by the Bethe points,
-    whose cost is linear in the rank and small (DESIGN.md §3)."""
+    whose cost is linear in the rank and small (docs/verdicts.md §8)."""
     from .engine import GROEBNER_COLENGTH_LIMIT
     return float(flag.rank) if flag.rank <= GROEBNER_COLENGTH_LIMIT else flag.rank / 20.0
 

@@ -7,7 +7,7 @@ congruent to it in the quantum K ring:
   λ_j(Q_i), 1 ≤ j ≤ d_i     [y^j] λ_y(S_{i+1})/λ_y(S_i) as a power series in y — the q-term
                             of the Whitney relation (arXiv:2310.03826) starts at y^{d_i+1};
   e_j(Y^(i)), j < d_i       the same (N_i(y) and λ_y(S_{i+1}) differ from y^{d_i} on);
-  e_{d_i}(Y^(i))            [y^{d_i}] λ_y(S_{i+1})/λ_y(S_i) / (1 − q_i)   (DESIGN.md §2.2);
+  e_{d_i}(Y^(i))            [y^{d_i}] λ_y(S_{i+1})/λ_y(S_i) / (1 − q_i)   (docs/mathematics.md §2.2);
   L_i, Chern roots          no representative without inverses: not transported.
 
 Why this is enough (derived here, and the engine checks the hypothesis every time): let φ

@@ -1,4 +1,5 @@
-"""The Bethe presentation (DESIGN.md §2.3): the critical-point equations in the Chern roots.
+"""The Bethe presentation: the critical-point equations in the Chern roots
+(docs/mathematics.md §2.3).
 
 Generators x{i}_{a}: the Chern roots X^(i)_a of S_i (weight 1).  For the root x = X^(i)_a,
 the equation of §2.2 cleared of denominators is

@@ -1,6 +1,6 @@
 """Type-A partial flag varieties Fl(k_1,…,k_m; n): parsing, rank, torus-fixed points.
 
-Conventions follow DESIGN.md §1: k_0 = 0, k_{m+1} = n, d_i = k_{i+1} − k_i, and levels are
+Conventions follow docs/mathematics.md §1: k_0 = 0, k_{m+1} = n, d_i = k_{i+1} − k_i, and levels are
 numbered 1…m.  A torus-fixed point is a chain I_1 ⊂ … ⊂ I_m of subsets of {1…n} with
 |I_i| = k_i; we store index sets as sorted tuples of 1-based integers.
 """

@@ -10,8 +10,8 @@ A family is a plain record of functions (no class hierarchy):
 * `unsupported(flag)`           → None, or the reason the family has nothing for this flag;
 * `solved_by_points`            → True for the Bethe equations themselves: the lifted Bethe
                                   points are their solutions, and the ring they present is by
-                                  definition the ring of functions on those points (DESIGN.md
-                                  §2.3), the reference every other family is measured against.
+                                  definition the ring of functions on those points
+                                  (docs/mathematics.md §2.3), the reference every other family is measured against.
 
 `ring` is a `compare.algebra.Ring`: builders read generators from `ring.gen[name]` and the
 parameters from `ring.T[j-1]`, `ring.q[i-1]`, so one builder serves the symbolic, the

@@ -1,4 +1,4 @@
-"""Relativistic (finite-difference) Toda relations, complete flags only (DESIGN.md §2.4).
+"""Relativistic (finite-difference) Toda relations, complete flags only (docs/mathematics.md §2.4).
 
 Generators L_j = det S_j / det S_{j−1}, j = 1…n.  Relations, i = 1…n:
 
@@ -6,8 +6,8 @@ Generators L_j = det S_j / det S_{j−1}, j = 1…n.  Relations, i = 1…n:
 
 Source: "Quantum K-theory on flag manifolds, finite-difference Toda lattices and quantum
 groups", Invent. Math. 151 (2003); proved in arXiv:1711.08414.  The index convention is
-recalled (DESIGN.md), and the tests confirm it at the Bethe points.  At q = 0 this is the
-Borel presentation e_i(L) = e_i(T).  The relation for i = n reads L_1⋯L_n = T_1⋯T_n, so
+recalled (docs/mathematics.md §2.4), and the tests confirm it at the Bethe points.  At q = 0
+this is the Borel presentation e_i(L) = e_i(T).  The relation for i = n reads L_1⋯L_n = T_1⋯T_n, so
 every L_j is already a unit and none needs adjoining.
 """
 from __future__ import annotations

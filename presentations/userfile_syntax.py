@@ -27,7 +27,7 @@ RESERVED = frozenset({
 })
 BUNDLE_KINDS = ("S", "Q", "Y", "C", "T")
 _OPERATORS = "+-*/^(){}[],=:_"
-# Characters that arrive when formulas are copied from papers or from DESIGN.md.
+# Characters that arrive when formulas are copied from papers or from docs/mathematics.md.
 _ALIASES = {"\u2212": "-", "\u00b7": "*", "\u00d7": "*", "\u22c5": "*"}
 
 

@@ -1,4 +1,5 @@
-"""Critical-point (Coulomb branch) equations symmetrised by Vieta's formulas (DESIGN.md §2.2).
+"""Critical-point (Coulomb branch) equations symmetrised by Vieta's formulas
+(docs/mathematics.md §2.2).
 
 With N_i(y) = λ_y(S_{i+1}) + y^{d_i}·q_i·(det S_{i+1}/det S_i)·λ_y(S_{i−1}), every −1/X^(i)_a
 is a root of N_i, so λ_y(S_i) divides N_i(y).  Multiplying by the unit det S_i gives the

@@ -1,4 +1,4 @@
-"""Quantum K Whitney relations (DESIGN.md §2.1).
+"""Quantum K Whitney relations (docs/mathematics.md §2.1).
 
 For each level i = 1…m, the coefficients of y^1 … y^{k_{i+1}} of
 

@@ -3,11 +3,11 @@
 References beside each check:
   * colength rank · ∏ k_i! of the saturated Bethe ideal: each of the rank torus-fixed points
     (standard count: the multinomial coefficient) lifts to one solution per ordering of each
-    level's roots (DESIGN.md §2.3);
+    level's roots (docs/mathematics.md §2.3);
   * its symmetric part is the ring itself, of colength rank — the colength of the q-Whitney
     ideal (arXiv:2310.03826, arXiv:2208.01091);
   * SymPy's `groebner` as an independent reference, on equations built in SymPy straight from
-    DESIGN.md §2.2 (not from the module under test).
+    docs/mathematics.md §2.2 (not from the module under test).
 """
 from __future__ import annotations
 
@@ -122,7 +122,7 @@ def test_symmetric_part_has_the_whitney_colength(case):
 
 
 # ---------------------------------------------------------------------------------------
-# SymPy cross-check, on equations typed in from DESIGN.md §2.2
+# SymPy cross-check, on equations typed in from docs/mathematics.md §2.2
 
 def sympy_bethe_ideal(flag, spec):
     T = [sympy.Integer(t % spec.prime) for t in spec.T]

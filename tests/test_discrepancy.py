@@ -3,7 +3,7 @@
 The wrong presentations are (a) the q-Whitney relations with the sign of the quantum term
 flipped, built here as a Family record, and (b) the shipped conjecture
 presentations/files/examples/whitney-sign-error.toml.  The formulas the report prints are
-checked against the relations written out independently in SymPy from DESIGN.md §2.1
+checked against the relations written out independently in SymPy from docs/mathematics.md §2.1
 (q-Whitney relations, arXiv:2310.03826), with the respective error put in by hand.
 """
 from __future__ import annotations
@@ -36,7 +36,7 @@ FLIPPED = flipped_q_sign("whitney-flipped")
 def sympy_whitney_coefficient(flag, level, power, *, quantum_sign=1, below_sign=-1):
     """Coefficient of y^power in (1 − q_i)(λ_y(S_i)λ_y(Q_i) − λ_y(S_{i+1}))
     + quantum_sign · y^{d_i} q_i det Q_i (λ_y(S_i) + below_sign·(λ_y(S_i−1) − 1) − 1),
-    written directly from DESIGN.md §2.1 (arXiv:2310.03826) in SymPy.  The published
+    written directly from docs/mathematics.md §2.1 (arXiv:2310.03826) in SymPy.  The published
     relation is quantum_sign = +1, below_sign = −1 (the constant terms of λ_y(S_i) and
     λ_y(S_{i−1}) cancel there; the shipped conjecture keeps that cancellation but adds
     the higher λ_a(S_{i−1}))."""

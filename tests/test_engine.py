@@ -1,8 +1,8 @@
 """The comparison engine against outside sources and against SymPy as independent judge.
 
 Sources: the Whitney presentation (arXiv:2310.03826; Grassmannians arXiv:2208.01091), the
-Vieta/critical-point form (DESIGN.md §2.2, same sources), the relativistic Toda presentation
-(Invent. Math. 151 (2003); arXiv:1711.08414), ranks = number of torus-fixed points (standard).
+Vieta/critical-point form (docs/mathematics.md §2.2, same sources), the relativistic Toda
+presentation (Invent. Math. 151 (2003); arXiv:1711.08414), ranks = number of torus-fixed points (standard).
 """
 from dataclasses import replace
 

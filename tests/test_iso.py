@@ -2,10 +2,10 @@
 
 External references, named beside each check:
   * change of variables Vieta → Whitney: λ_j(Q_i) = w_{i,j} (j < d_i), det Q_i = (1 − q_i)·w_{i,d_i}
-    (DESIGN.md §2.2, derived there from the q-Whitney relations of arXiv:2310.03826 and
+    (docs/mathematics.md §2.2, derived there from the q-Whitney relations of arXiv:2310.03826 and
     arXiv:2208.01091; the finder must rediscover it on its own — this is the independent
     confirmation, for every flag type with n ≤ 5);
-  * Toda generators L_j = det S_j / det S_{j−1} (DESIGN.md §2.4; relations from "Quantum
+  * Toda generators L_j = det S_j / det S_{j−1} (docs/mathematics.md §2.4; relations from "Quantum
     K-theory on flag manifolds, finite-difference Toda lattices and quantum groups", Invent.
     Math. 151 (2003), proved in arXiv:1711.08414), checked as class values in the Whitney
     ring by Gröbner normal forms;
@@ -58,7 +58,7 @@ def q(i):
 
 
 # ---------------------------------------------------------------------------------------
-# Vieta ↔ Whitney: the change of variables of DESIGN.md §2.2, rediscovered
+# Vieta ↔ Whitney: the change of variables of docs/mathematics.md §2.2, rediscovered
 
 @pytest.mark.parametrize("flag", list(flag_types(5)), ids=lambda f: f.name)
 def test_vieta_to_whitney_is_the_published_change_of_variables(flag):
@@ -84,7 +84,7 @@ def test_vieta_to_whitney_is_the_published_change_of_variables(flag):
 
 
 # ---------------------------------------------------------------------------------------
-# Toda ↔ Whitney: L_j = det S_j / det S_{j−1} as class values (DESIGN.md §2.4)
+# Toda ↔ Whitney: L_j = det S_j / det S_{j−1} as class values (docs/mathematics.md §2.4)
 
 @pytest.mark.parametrize("case", ["Fl(3)", "Fl(4)"])
 def test_toda_generators_are_ratios_of_determinants(case):

@@ -153,7 +153,7 @@ def _design_equation_numerator(flag, i, a, roots, T, q):
 
 @pytest.mark.parametrize("case", ["P1", "Gr(1;3)", "Fl(3)"])
 def test_points_solve_the_printed_equations_checked_with_sympy(case):
-    # The series are substituted into DESIGN.md §2.2 (not into the engine's cleared form)
+    # The series are substituted into docs/mathematics.md §2.2 (not into the engine's cleared form)
     # with SymPy polynomials in s over GF(p); everything below s^4 must cancel.
     order, p = 4, SMALL_PRIME
     bethe = lifted(case, order=order, prime=p)
@@ -225,7 +225,7 @@ def test_vieta_and_toda_values_agree_with_their_definitions():
             Generator("L3", Meaning("toda_L", 3), 1), Generator("x", Meaning("root", 2, 2), 1)]
     q = ps.on_line(bethe.spec.q_line[0], p)
     for point, value in zip(bethe.points, points.generator_values(bethe, gens)):
-        # λ_1(Q_1) = (1 − q_1) w_{1,1} when d_1 = 1 (DESIGN.md §2.2 change of variables)
+        # λ_1(Q_1) = (1 − q_1) w_{1,1} when d_1 = 1 (docs/mathematics.md §2.2 change of variables)
         assert ps.valuation(value["Q"] - value["w"].mul_low(1 - q, N), N) is None
         product = value["L1"].mul_low(value["L2"], N).mul_low(value["L3"], N)
         assert ps.coefficients(product, N) == [math.prod(bethe.spec.T) % p] + [0] * (N - 1)
@@ -284,7 +284,7 @@ def test_projective_space_relation_at_every_point(n):
 @pytest.mark.parametrize("case", ["Fl(3)", "Fl(4)"])
 def test_toda_relations_hold(case):
     # finite-difference Toda presentation (Invent. Math. 151 (2003); arXiv:1711.08414);
-    # DESIGN.md marks its index convention as recalled — confirmed here at the points
+    # docs/mathematics.md §2.4 marks its index convention as recalled — confirmed here at the points
     bethe = lifted(case, order=6)
     assert points.check_holds_family(toda.FAMILY, bethe.flag, bethe).holds
 

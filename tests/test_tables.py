@@ -59,7 +59,7 @@ def test_frame_columns_and_values(rows):
     assert list(frame.columns) == list(FRAME_COLUMNS)
     assert list(frame["case"]) == ["P2", "Fl(3)", "Gr(2;4)"]
     assert list(frame["verdict"]) == ["agree", "disagree", "inconclusive"]
-    # Standard fact (DESIGN.md §1): rank = n!/(k_1! d_1! ⋯ d_m!), computed here directly.
+    # Standard fact (docs/mathematics.md §1): rank = n!/(k_1! d_1! ⋯ d_m!), computed here directly.
     for _, r in frame.iterrows():
         assert r["rank"] == multinomial(r["n"], r["dims"])
         assert sum(r["steps"]) == r["n"] and len(r["steps"]) == r["m"] + 1
@@ -333,7 +333,7 @@ def iso_store(tmp_path_factory):
 
 
 def change_of_variables(case):
-    """DESIGN.md §2.2 (derived there): λ_j(Q_i) = w_{i,j} for j < d_i and
+    """docs/mathematics.md §2.2 (derived there): λ_j(Q_i) = w_{i,j} for j < d_i and
     det Q_i = (1 − q_i)·w_{i,d_i}; the λ_j(S_i) are shared.  As (target, formula) LaTeX
     pairs for the inverse (Whitney generators in Vieta ones) and the map (Vieta in Whitney),
     built here from the rule, not from the search."""

@@ -3,7 +3,8 @@
 References outside the project, named beside each check:
 * q-Whitney relations: arXiv:2310.03826 (all partial flags), arXiv:2208.01091 (Grassmannians);
 * ∏_j (1 − S/T_j) = q in QK_T(P^{n−1}) and det S·det Q = (1 − q)·T_1⋯T_n (arXiv:2208.01091;
-  "Quantum K-theory of Grassmannians", Duke Math. J. 156 (2011)), as quoted in DESIGN.md;
+  "Quantum K-theory of Grassmannians", Duke Math. J. 156 (2011)), as stated in
+  docs/mathematics.md §2.1;
 * SymPy as an independent reference for symmetric functions, expansions and Gröbner bases.
 """
 from __future__ import annotations
@@ -126,8 +127,8 @@ def test_plain_case_file_has_no_weights():
 # The shipped case file and the deliberately wrong conjecture
 
 def test_p3_case_file_generates_the_whitney_elimination_ideal():
-    """∏_j (1 − S/T_j) = q for P^{n−1} (DESIGN.md §2.1; Duke Math. J. 156 (2011)): with numbers
-    for T and q, SymPy's lex Gröbner basis of the Whitney relations of P^3 eliminates the
+    """∏_j (1 − S/T_j) = q for P^{n−1} (docs/mathematics.md §2.1; Duke Math. J. 156 (2011)):
+    with numbers for T and q, SymPy's lex Gröbner basis of the Whitney relations of P^3 eliminates the
     λ(Q) generators and leaves one polynomial in S = λ_1(S_1), proportional to the file's."""
     flag = parse_flag("P3")
     numbers = {"T1": 2, "T2": 3, "T3": 5, "T4": 7, "q1": sympy.Rational(1, 11)}

@@ -44,7 +44,7 @@ FLAGS_UP_TO_5 = list(flag_types(5))
 
 # Standard fact: the rank of QK_T(Fl) over the coefficients is the number of torus-fixed
 # points n!/(d_0!⋯d_m!), the Euler characteristic of the flag variety; a correct
-# presentation has this colength at a generic specialisation (DESIGN.md §1).
+# presentation has this colength at a generic specialisation (docs/mathematics.md §1).
 @pytest.mark.parametrize("equivariant", [True, False], ids=["equivariant", "plain"])
 @pytest.mark.parametrize("flag", FLAGS_UP_TO_5, ids=lambda f: f.name)
 def test_colength_is_the_rank(flag, equivariant):
