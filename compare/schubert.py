@@ -230,7 +230,7 @@ def polynomial_vectors(quotient: Quotient, basis: Basis) -> list:
     for label, terms in zip(basis.labels, basis.polynomials):
         total = ring.zero
         for monomial, c in terms.items():
-            term = ring.const(c)
+            term = ring.const(c % quotient.prime)
             for name, power in monomial:
                 if name not in ring.gen:
                     raise SchubertError(f"basis {basis.name}, {sb.label_text(label)}: unknown "
