@@ -329,11 +329,12 @@ def _toml_error(error: Exception, text: str, label: str) -> PresentationFileErro
     return PresentationFileError(f"not valid TOML: {message}", label)
 
 
+# "schubert": a Schubert basis beside the presentation, read by presentations/schubert_files.py.
 _TOP_KEYS = {
     "case": ("format", "flavour", "name", "description", "case", "expected_colength",
-             "parameters", "generators", "relations", "units"),
+             "parameters", "generators", "relations", "units", "schubert"),
     "family": ("format", "flavour", "name", "description", "applies_to", "expected_colength",
-               "parameters", "generators", "relations", "units"),
+               "parameters", "generators", "relations", "units", "schubert"),
 }
 _PARAMETER_KEYS = ("name", "values", "default", "per_step")
 _ENTRY_KEYS = {

@@ -249,3 +249,18 @@ def test_cli_compares_presentations(capsys):
     payload = json.loads(capsys.readouterr().out)
     assert payload["comparisons"][0]["same_table"] is True
     assert [run["presentation"] for run in payload["runs"]] == ["whitney", "vieta"]
+
+
+def test_basis_inside_a_presentation_file(tmp_path, capsys):
+    # The shipped P^3 case file with a [schubert] table appended: the presentation loader
+    # leaves the table alone and `schubert` takes the basis from it.  O_a = (1 − O(−1))^a
+    # (Buch–Mihalcea 2011; recalled from memory).
+    from pathlib import Path
+    shipped = Path(__file__).resolve().parents[1] / "presentations/files/examples/p3-single-generator.toml"
+    path = tmp_path / "p3.toml"
+    path.write_text(shipped.read_text() + '\n[schubert]\nname = "p3-by-hand"\n'
+                    '[[schubert.case]]\ncase = "P3"\nclasses = { "[]" = "1", "[1]" = "1 - S1_1", '
+                    '"[2]" = "(1 - S1_1)^2", "[3]" = "(1 - S1_1)^3" }\n')
+    assert main(["schubert", "P3", "--presentation", str(path), "--json"]) == 0
+    payload = json.loads(capsys.readouterr().out)
+    assert payload["basis"] == "p3-by-hand" and payload["checks"]["projective_space"]
