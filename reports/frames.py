@@ -34,6 +34,15 @@ DataFrame columns (one row per stored case, in sweep order):
     seconds         wall-clock time of the case
     finished_at     ISO time the case was stored (None for rows made here)
     command         command line that produced the row (None if unknown)
+    sweep           the first 8 hex digits of the store's settings key: rows with the same
+                    value come from one sweep's settings (None for rows made here)
+
+A store may hold several sweeps (other presentations, plain and equivariant runs, other
+orders); `select_rows` keeps the rows of one, and `sweeps_in` lists them.
+
+Verdict words (`VERDICTS`): agree, consistent (every relation vanishes at every Bethe point
+to the stated order: evidence, not a proof, and never counted as agreement), disagree,
+inconclusive.
 """
 from __future__ import annotations
 
@@ -48,7 +57,11 @@ Source = Union[str, Path, Sequence[dict]]
 
 FRAME_COLUMNS = ("case", "n", "dims", "steps", "m", "kind", "rank", "equivariant",
                  "presentations", "verdict", "reason", "method", "order", "trials", "exact",
-                 "certificate", "prime", "primes", "seed", "seconds", "finished_at", "command")
+                 "certificate", "prime", "primes", "seed", "seconds", "finished_at", "command",
+                 "sweep")
+# Every verdict word, in the order tables and figures list them.  Only "agree" is agreement.
+VERDICTS = ("agree", "consistent", "disagree", "inconclusive")
+SWEEP_KEY_DIGITS = 8
 
 
 class SourceError(InputError):
@@ -161,7 +174,59 @@ def frame_record(row: dict) -> dict:
         "primes": tuple(t.get("prime") for t in trials),
         "seed": certificate.get("seed"), "seconds": row.get("seconds"),
         "finished_at": row.get("finished_at"), "command": _versions_command(row),
+        "sweep": sweep_key(row),
     }
+
+
+def sweep_key(row: dict) -> Optional[str]:
+    key = row.get("settings_key")
+    return key[:SWEEP_KEY_DIGITS] if key else None
+
+
+def is_equivariant(row: dict) -> bool:
+    result = row.get("result") or {}
+    settings = row.get("settings") or {}
+    return bool(result.get("equivariant", settings.get("equivariant", True)))
+
+
+def select_rows(rows: Sequence[dict], *, sweep: Optional[str] = None,
+                presentations: Optional[Sequence[str]] = None,
+                equivariant: Optional[bool] = None) -> List[dict]:
+    """The rows of one sweep (a prefix of its key, as `sweeps_in` shows it), of exactly these
+    presentations (in any order), and/or equivariant (True) or plain (False) only."""
+    if sweep is not None and not any((sweep_key(r) or "").startswith(sweep) for r in rows):
+        known = ", ".join(s["sweep"] for s in sweeps_in(rows)) or "none (rows without a store)"
+        raise SourceError(f"no sweep {sweep!r} in these results; sweeps: {known}")
+    wanted = None if presentations is None else sorted(presentations)
+    out = []
+    for row in rows:
+        if sweep is not None and not (sweep_key(row) or "").startswith(sweep):
+            continue
+        if wanted is not None and sorted(row.get("presentations") or []) != wanted:
+            continue
+        if equivariant is not None and is_equivariant(row) != equivariant:
+            continue
+        out.append(row)
+    return out
+
+
+def sweeps_in(rows: Sequence[dict]) -> List[dict]:
+    """One entry per sweep (settings) among the rows, in first-seen order: its key prefix,
+    presentations, equivariant or plain, and number of cases."""
+    found: dict = {}
+    for row in rows:
+        key = sweep_key(row) or "-"
+        entry = found.setdefault(key, {"sweep": key,
+                                       "presentations": list(row.get("presentations") or []),
+                                       "equivariant": is_equivariant(row), "cases": 0})
+        entry["cases"] += 1
+    return list(found.values())
+
+
+def sweep_description(entry: dict) -> str:
+    kind = "equivariant" if entry["equivariant"] else "plain"
+    return (f"{entry['sweep']} ({','.join(entry['presentations'])}; {kind}; "
+            f"{entry['cases']} case{'s' if entry['cases'] != 1 else ''})")
 
 
 def results_frame(path_or_rows: Source):

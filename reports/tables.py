@@ -12,6 +12,7 @@ import csv
 import io
 import re
 import zlib
+from pathlib import Path
 from dataclasses import dataclass, field, replace
 from typing import Callable, Dict, List, Optional, Sequence, Tuple
 
@@ -19,13 +20,15 @@ from ringmatch.errors import InputError
 
 from . import provenance as prov
 from .formulas import generator_latex, relation_latex_pieces
-from .frames import Source, frame_record, load_rows
+from .frames import VERDICTS, Source, frame_record, load_rows, select_rows
 
 FORMATS = ("latex", "csv", "markdown")
 # Above this many rows a LaTeX table no longer fits on one page: it becomes a longtable.
 LONGTABLE_ROWS = 30
 # Relations are printed only for cases this small; larger ones fill pages with formulas.
 RELATIONS_MAX_RANK = 6
+# Widest presentation entry (characters) a LaTeX table prints by name; wider ones get letters.
+PRESENTATIONS_WIDTH = 12
 # The same bound for isomorphisms: up to this rank a search takes about a second per case.
 ISOMORPHISMS_MAX_RANK = 6
 
@@ -56,7 +59,7 @@ def _seconds(r: dict) -> str:
 
 
 COLUMNS: Dict[str, Column] = {c.key: c for c in (
-    Column("case", "flag type", "flag type", "l", lambda r: r["case"]),
+    Column("case", "flag type", "$X$", "l", lambda r: r["case"]),
     Column("kind", "kind", "kind", "l", lambda r: r["kind"]),
     Column("n", "n", "$n$", "r", lambda r: str(r["n"])),
     Column("rank", "rank", "rank", "r", lambda r: str(r["rank"])),
@@ -71,9 +74,13 @@ COLUMNS: Dict[str, Column] = {c.key: c for c in (
     Column("certificate", "certificate", "certificate", "l", _certificate_summary),
     Column("prime", "prime", "prime", "r", lambda r: str(r["prime"] or "")),
     Column("seed", "seed", "seed", "r", lambda r: str(r["seed"] if r["seed"] is not None else "")),
-    Column("seconds", "time (s)", "time (s)", "r", _seconds),
+    Column("seconds", "time (s)", "time", "r", _seconds),
+    Column("equivariant", "equivariant/plain", "equiv.", "l",
+           lambda r: "equivariant" if r["equivariant"] in (True, None) else "plain"),
+    Column("sweep", "sweep", "sweep", "l", lambda r: r["sweep"] or ""),
 )}
-DEFAULT_COLUMNS = ("case", "rank", "presentations", "verdict", "certificate", "seconds")
+DEFAULT_COLUMNS = ("case", "rank", "presentations", "equivariant", "verdict", "certificate",
+                   "seconds")
 
 
 class TableError(InputError):
@@ -90,7 +97,11 @@ class TableOptions:
     isomorphisms_max_rank: int = ISOMORPHISMS_MAX_RANK
     standalone: bool = False              # LaTeX: a whole document instead of a fragment
     command: Optional[str] = None         # for the reproducibility block
-    caption: str = "Comparison of presentations, one row per case."
+    caption: Optional[str] = None         # first sentence; None: says what was compared
+    label: Optional[str] = None           # LaTeX \label; None: tab:ringmatch[-<store name>]
+    sweep: Optional[str] = None           # only rows of this sweep (prefix of its key)
+    presentations: Optional[Tuple[str, ...]] = None   # only rows comparing exactly these
+    equivariant: Optional[bool] = None    # only equivariant (True) or plain (False) rows
 
 
 def parse_columns(text: str) -> Tuple[str, ...]:
@@ -111,10 +122,12 @@ class Table:
     rows: List[dict]                      # the store rows, for relations and provenance
     provenance: dict = field(default_factory=dict)
     isomorphisms: List["CaseIsomorphism"] = field(default_factory=list)
+    name: Optional[str] = None            # the source file's stem, for the default label
 
 
 def build_table(source: Source, options: TableOptions = TableOptions()) -> Table:
-    rows = load_rows(source)
+    rows = select_rows(load_rows(source), sweep=options.sweep,
+                       presentations=options.presentations, equivariant=options.equivariant)
     for key in options.columns:
         if key not in COLUMNS:
             raise TableError(f"unknown column {key!r}; choose from {', '.join(COLUMNS)}")
@@ -127,6 +140,8 @@ def build_table(source: Source, options: TableOptions = TableOptions()) -> Table
     else:
         groups.append((None, [[c.value(r) for c in columns] for r in records]))
     table = Table(columns, groups, records, rows, prov.provenance(rows, options.command))
+    if isinstance(source, (str, Path)):
+        table.name = Path(source).stem
     if options.isomorphisms:
         searched = (case_isomorphism(row, options.isomorphisms_max_rank) for row in rows)
         table.isomorphisms = [found for found in searched if found is not None]
@@ -164,42 +179,274 @@ def latex_escape(text: str) -> str:
     return "".join(out)
 
 
-def _latex_cell(column: Column, value: str) -> str:
-    if column.key == "certificate" and value.startswith("s^"):   # s^N: a power of s
-        power, _, rest = value[2:].partition(", ")
-        return f"$s^{{{power}}}$, " + latex_escape(rest)
-    return latex_escape(value)
+def case_latex(case: str) -> str:
+    r"""A case name in math mode: $\mathrm{Fl}(1,3;5)$, $\mathrm{Gr}(2,5)$, $\mathbb{P}^{4}$."""
+    match = re.fullmatch(r"P(\d+)", case)
+    if match:
+        return rf"$\mathbb{{P}}^{{{match.group(1)}}}$"
+    match = re.fullmatch(r"Gr\((\d+)[;,](\d+)\)", case)
+    if match:
+        return rf"$\mathrm{{Gr}}({match.group(1)},{match.group(2)})$"
+    match = re.fullmatch(r"Fl\(([\d,;]+)\)", case)
+    if match:
+        return rf"$\mathrm{{Fl}}({match.group(1)})$"
+    return latex_escape(case)
+
+
+def _names_latex(names: Sequence[str]) -> str:
+    quoted = [rf"\texttt{{{latex_escape(name)}}}" for name in names]
+    if len(quoted) <= 2:
+        return " and ".join(quoted)
+    return ", ".join(quoted[:-1]) + " and " + quoted[-1]
+
+
+# Parts of the certificate and other facts that, when every row has the same value, leave
+# the body of a LaTeX table for its caption: a column repeating one value only costs width.
+_CERTIFICATE_PARTS = ("method", "order", "trials", "exactness")
+_CAPTION_COLUMNS = ("presentations", "equivariant", "kind", "n", "method", "order", "trials",
+                    "exactness", "prime")
+
+
+def _certificate_part(key: str, r: dict) -> str:
+    if key == "method":
+        return r["method"] or ""
+    if key == "order":
+        return f"$s^{{{r['order']}}}$" if r["order"] else ""
+    if key == "trials":
+        return f"{r['trials']} trial" + ("s" if r["trials"] != 1 else "")
+    return r["certificate"]
+
+
+def _same(values) -> bool:
+    return len(set(values)) <= 1
+
+
+@dataclass
+class LatexLayout:
+    """What a LaTeX table shows per row, and what its caption states once for all rows."""
+    keys: List[str]                        # column keys shown, in order
+    headings: List[str]
+    align: str
+    cells: List[List[str]]                 # per record, LaTeX
+    caption: str
+    common: Tuple[str, ...] = ()           # presentations in every row, when not all equal
+
+
+def _presentations_in_every_row(records: Sequence[dict]) -> Tuple[str, ...]:
+    first = list(records[0]["presentations"]) if records else []
+    return tuple(name for name in first if all(name in r["presentations"] for r in records))
+
+
+def _verdict_counts(records: Sequence[dict]) -> str:
+    counts = {}
+    for r in records:
+        counts[r["verdict"]] = counts.get(r["verdict"], 0) + 1
+    order = [v for v in VERDICTS if v in counts] + sorted(set(counts) - set(VERDICTS))
+    total = len(records)
+    parts = ", ".join(f"{counts[v]} {latex_escape(v)}" for v in order)
+    return f"{total} case{'s' if total != 1 else ''}: {parts}." if total else "No cases."
+
+
+def latex_layout(table: Table, options: TableOptions) -> LatexLayout:
+    records = table.records
+    keys: List[str] = []
+    facts: List[str] = []
+    certificate_shown: List[str] = []
+    common: Tuple[str, ...] = ()
+    for key in [c.key for c in table.headings]:
+        if key == "certificate":
+            for part in _CERTIFICATE_PARTS:
+                values = [_certificate_part(part, r) for r in records]
+                if _same(values):
+                    if values and values[0]:
+                        facts.append(part)
+                else:
+                    certificate_shown.append(part)
+            if certificate_shown:
+                keys.append(key)
+            continue
+        if key in _CAPTION_COLUMNS and _same(COLUMNS[key].value(r) for r in records):
+            facts.append(key)
+            continue
+        if key == "presentations":
+            common = _presentations_in_every_row(records)
+        keys.append(key)
+
+    def shown_presentations(r: dict) -> Tuple[str, ...]:
+        return tuple(name for name in r["presentations"] if name not in common)
+
+    # Long names would set the width of the whole table: letters then stand for the
+    # presentation sets, spelled out once in the caption.
+    sets = distinct_in_order(shown_presentations(r) for r in records)
+    lettered = "presentations" in keys and (
+        max((len(", ".join(names)) for names in sets), default=0) > PRESENTATIONS_WIDTH)
+    letters = {names: _letter(index) for index, names in enumerate(sets)} if lettered else {}
+
+    def cell(key: str, r: dict) -> str:
+        if key == "case":
+            return case_latex(r["case"])
+        if key == "certificate":
+            return ", ".join(_certificate_part(part, r) for part in certificate_shown)
+        if key == "presentations":
+            names = shown_presentations(r)
+            if lettered:
+                return f"({letters[names]})"
+            return ", ".join(latex_escape(name) for name in names) or "--"
+        if key == "order" and r["order"]:
+            return f"$s^{{{r['order']}}}$"
+        if key == "equivariant":
+            return "yes" if r["equivariant"] in (True, None) else "no"
+        return latex_escape(COLUMNS[key].value(r))
+
+    headings = []
+    for key in keys:
+        if key == "presentations" and common:
+            headings.append("with")
+        elif key == "certificate":
+            headings.append(", ".join({"method": "method", "order": "order",
+                                       "trials": "trials", "exactness": "certificate"}[part]
+                                      for part in certificate_shown))
+        else:
+            headings.append(COLUMNS[key].latex_heading)
+    align = "".join(COLUMNS[key].align for key in keys)
+    cells = [[cell(key, r) for key in keys] for r in records]
+    caption = _latex_caption(table, options, facts, common)
+    if lettered:
+        column = r"\emph{with}" if common else r"\emph{presentations}"
+        caption += f" Column {column}: " + "; ".join(
+            f"({letters[names]}) {_names_latex(names)}" for names in sets) + "."
+    if "seconds" in keys:
+        caption += " Times in seconds (wall clock)."
+    return LatexLayout(keys, headings, align, cells, caption, common)
+
+
+def _letter(index: int) -> str:
+    return "abcdefghijklmnopqrstuvwxyz"[index] if index < 26 else str(index + 1)
+
+
+def distinct_in_order(values) -> list:
+    seen, out = set(), []
+    for value in values:
+        if value not in seen:
+            seen.add(value)
+            out.append(value)
+    return out
+
+
+def _latex_caption(table: Table, options: TableOptions, facts: Sequence[str],
+                   common: Tuple[str, ...]) -> str:
+    records = table.records
+    first = records[0] if records else None
+    if options.caption:
+        sentences = [latex_escape(options.caption).rstrip(".") + "."]
+    else:
+        ring = r"$QK_T(X)$ or $QK(X)$ (column \emph{equiv.})"
+        if first is not None and _same(r["equivariant"] in (True, None) for r in records):
+            ring = ("$QK_T(X)$ (equivariant)" if first["equivariant"] in (True, None)
+                    else "$QK(X)$ (plain: every $T_j = 1$)")
+        what = f"Comparison of presentations of {ring}, one row per flag variety $X$"
+        if first is None:
+            pass
+        elif "presentations" in facts or _same(tuple(r["presentations"]) for r in records):
+            what += ": " + _names_latex(first["presentations"])
+        elif common:
+            what += (f": {_names_latex(common)} against the presentations in column "
+                     r"\emph{with}")
+        sentences = [what + "."]
+    settled = []
+    if first is not None:
+        if "method" in facts:
+            settled.append(f"method {latex_escape(first['method'])}")
+        if "order" in facts:
+            settled.append(f"Bethe points to order $s^{{{first['order']}}}$")
+        if "trials" in facts:
+            settled.append(f"{first['trials']} trial{'s' if first['trials'] != 1 else ''} "
+                           "per case")
+        if "exactness" in facts:
+            settled.append(f"{latex_escape(first['certificate'])} certificates")
+        if "kind" in facts and len(records) > 1:
+            settled.append(f"all {latex_escape(first['kind'])}")
+        if "n" in facts and len(records) > 1:
+            settled.append(f"all with $n = {first['n']}$")
+        if "prime" in facts and first["prime"]:
+            settled.append(f"prime {first['prime']}")
+    if settled:
+        sentences.append(settled[0][0].upper() + settled[0][1:] + "".join(
+            "; " + fact for fact in settled[1:]) + ".")
+    if first is not None:
+        sentences.append(_verdict_counts(records))
+    if any(r["verdict"] == "consistent" for r in records):
+        sentences.append(r"\emph{consistent}: every relation vanishes at every Bethe point "
+                         "to the stated order; evidence, not a proof.")
+    return " ".join(sentences)
+
+
+def plain_caption(table: Table, options: TableOptions) -> str:
+    """The caption's first sentence and the verdict counts, for Markdown."""
+    if options.caption:
+        return options.caption
+    records = table.records
+    if not records:
+        return "No cases."
+    ring = "QK_T(X) or QK(X)"
+    if _same(r["equivariant"] in (True, None) for r in records):
+        ring = "QK_T(X) (equivariant)" if records[0]["equivariant"] in (True, None) \
+            else "QK(X) (plain: every T_j = 1)"
+    what = f"Comparison of presentations of {ring}, one row per flag variety X"
+    if _same(tuple(r["presentations"]) for r in records):
+        what += ": " + ", ".join(records[0]["presentations"])
+    return f"{what}. {_verdict_counts(records)}"
+
+
+def table_label(table: Table, options: TableOptions) -> str:
+    if options.label:
+        return options.label
+    stem = re.sub(r"[^A-Za-z0-9]+", "-", table.name or "").strip("-").lower()
+    return "tab:ringmatch" + (f"-{stem}" if stem else "")
+
+
+# Type one size down and narrower gaps between columns (local to the table): the usual
+# setting of tables in papers, and what lets the default table fit one column of two.
+_COMPACT = (r"\small", r"\setlength{\tabcolsep}{4pt}")
 
 
 def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
-    columns = table.headings
-    spec = "".join(c.align for c in columns)
-    header = " & ".join(c.latex_heading for c in columns) + r" \\"
-    count = sum(len(rows) for _, rows in table.groups)
+    layout = latex_layout(table, options)
+    spec = layout.align
+    width = len(layout.keys)
+    header = " & ".join(layout.headings) + r" \\"
+    count = len(table.records)
     long = count > LONGTABLE_ROWS
     body: List[str] = []
-    for n, rows in table.groups:
+    by_n: List[Tuple[Optional[int], List[List[str]]]] = []
+    if options.group_by_n:
+        for n in sorted({r["n"] for r in table.records}):
+            by_n.append((n, [c for c, r in zip(layout.cells, table.records) if r["n"] == n]))
+    else:
+        by_n.append((None, layout.cells))
+    for n, rows in by_n:
         if n is not None:
             if body:
                 body.append(r"\midrule")
-            body.append(rf"\multicolumn{{{len(columns)}}}{{l}}{{\emph{{$n = {n}$}}}} \\")
+            body.append(rf"\multicolumn{{{width}}}{{l}}{{\emph{{$n = {n}$}}}} \\")
             body.append(r"\addlinespace[2pt]")
-        body += [" & ".join(_latex_cell(c, v) for c, v in zip(columns, row)) + r" \\"
-                 for row in rows]
-    caption = latex_escape(options.caption)
-    lines = ["% ringmatch results table; needs \\usepackage{booktabs}"
-             + (", \\usepackage{longtable}" if long else "")
+        body += [" & ".join(row) + r" \\" for row in rows]
+    caption = layout.caption
+    label = rf"\label{{{table_label(table, options)}}}"
+    lines = ["% ringmatch results table; needs \\usepackage{booktabs}, \\usepackage{amssymb}"
+             + (", \\usepackage{longtable} (one-column pages only)" if long else "")
              + (", \\usepackage{amsmath}" if _display_math(options) else "")]
     if long:
-        lines += [rf"\begin{{longtable}}{{{spec}}}", rf"\caption{{{caption}}}\\",
+        lines += ["{" + " ".join(_COMPACT), rf"\begin{{longtable}}{{{spec}}}",
+                  rf"\caption{{{caption}}}{label}\\",
                   r"\toprule", header, r"\midrule", r"\endfirsthead",
-                  rf"\multicolumn{{{len(columns)}}}{{l}}{{\emph{{(continued)}}}} \\",
+                  rf"\multicolumn{{{width}}}{{l}}{{\emph{{(continued)}}}} \\",
                   r"\toprule", header, r"\midrule", r"\endhead",
-                  r"\bottomrule", r"\endfoot", *body, r"\end{longtable}"]
+                  r"\bottomrule", r"\endfoot", *body, r"\end{longtable}", "}"]
     else:
-        lines += [r"\begin{table}[htbp]", r"\centering", rf"\caption{{{caption}}}",
-                  rf"\begin{{tabular}}{{{spec}}}", r"\toprule", header, r"\midrule", *body,
-                  r"\bottomrule", r"\end{tabular}", r"\end{table}"]
+        lines += [r"\begin{table}[htbp]", r"\centering", rf"\caption{{{caption}}}", label,
+                  *_COMPACT, rf"\begin{{tabular}}{{{spec}}}", r"\toprule", header, r"\midrule",
+                  *body, r"\bottomrule", r"\end{tabular}", r"\end{table}"]
     if options.relations:
         lines += relations_latex(table.rows, options.relations_max_rank)
     if options.isomorphisms:
@@ -216,7 +463,7 @@ def _display_math(options: TableOptions) -> bool:
 
 
 def latex_document(fragment: str, *, long: bool, relations: bool) -> str:
-    packages = ["booktabs"] + (["longtable"] if long else []) + \
+    packages = ["booktabs", "amssymb"] + (["longtable"] if long else []) + \
         (["amsmath"] if relations else [])
     return "\n".join([r"\documentclass[10pt]{article}",
                       *[rf"\usepackage{{{p}}}" for p in packages],
@@ -513,7 +760,7 @@ def markdown_table(table: Table, options: TableOptions = TableOptions()) -> str:
                               colalign=["right" if c.align == "r" else "left"
                                         for c in table.headings]))
         lines.append("")
-    lines.insert(0, options.caption + "[^reproduce]")
+    lines.insert(0, plain_caption(table, options) + "[^reproduce]")
     lines.insert(1, "")
     if options.relations:
         lines += relations_markdown(table.rows, options.relations_max_rank) + [""]

@@ -24,6 +24,8 @@ from ringmatch.reports.frames import FRAME_COLUMNS, SourceError, load_rows, resu
 from ringmatch.reports.tables import (LONGTABLE_ROWS, TableError, TableOptions, build_table, csv_table,
                             latex_table, markdown_table, parse_columns, render)
 
+from conftest import run_cli
+
 CASES = [("P2", ("whitney", "vieta"), "auto", 3),
          ("Fl(1,2;3)", ("whitney", "whitney-sign-error"), "auto", 4),
          ("Gr(2;4)", ("whitney", "vieta"), "points", 5)]   # points alone leave vieta undecided
@@ -130,7 +132,20 @@ def test_latex_short_and_long_forms(rows):
     assert r"\begin{tabular}" in short and "longtable" not in short
     for rule in (r"\toprule", r"\midrule", r"\bottomrule"):
         assert rule in short
-    assert r"$s^{6}$, 1 trial, probabilistic" in short
+    # what every row shares is said once, in the caption, which says what was compared
+    caption = short.split(r"\caption{", 1)[1].split("}\n", 1)[0]
+    assert r"Bethe points to order $s^{6}$; 1 trial per case; probabilistic certificates" \
+        in caption
+    assert r"\texttt{whitney} against the presentations in column \emph{with}" in caption
+    assert "3 cases: 1 agree, 1 disagree, 1 inconclusive." in caption
+    assert r"\label{tab:ringmatch}" in short
+    body = short.split(r"\midrule", 1)[1].split(r"\bottomrule")[0]
+    assert "probabilistic" not in body and "whitney" not in body
+    # a long presentation name would set the table's width: letters, spelled out in the caption
+    assert r"Column \emph{with}: (a) \texttt{vieta}; (b) \texttt{whitney-sign-error}." in caption
+    assert body.splitlines()[1].startswith(r"$\mathbb{P}^{2}$ & 3 & (a) & agree & both")
+    assert r"$\mathrm{Fl}(3)$ & 6 & (b) & disagree" in body
+    assert r"$\mathrm{Gr}(2,4)$" in body
     many = rows * (LONGTABLE_ROWS // len(rows) + 1)
     long = latex_table(build_table(many))
     assert r"\begin{longtable}" in long and r"\endhead" in long
@@ -193,15 +208,25 @@ def test_latex_longtable_compiles_and_breaks_pages(rows, tmp_path):
 def test_latex_fragment_compiles_inside_a_paper(rows, tmp_path):
     fragment = render(rows, "latex", TableOptions(columns=parse_columns("case,reason,verdict")))
     (tmp_path / "appendix.tex").write_text(fragment)
-    paper = "\n".join([r"\documentclass{article}", r"\usepackage{booktabs}",
+    paper = "\n".join([r"\documentclass{article}", r"\usepackage{booktabs,amssymb}",
                        r"\begin{document}", r"\section*{Appendix}", r"\input{appendix}",
                        r"\end{document}", ""])
     compile_latex(paper, tmp_path)
 
 
-def run_cli(*args, cwd=None):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], capture_output=True,
-                          text=True, timeout=120, cwd=cwd)
+@pytest.mark.parametrize("options", ["", "twocolumn"])
+def test_default_table_fits_the_column(rows, tmp_path, options):
+    """The default table inside a one-column and a two-column article: TeX reports every
+    line wider than the column as an "Overfull \\hbox" in the log."""
+    fragment = render(rows, "latex", TableOptions(command="ringmatch table runs.db "
+                                                          "--format latex"))
+    (tmp_path / "results.tex").write_text(fragment)
+    paper = "\n".join([rf"\documentclass[{options}]{{article}}",
+                       r"\usepackage{booktabs,amssymb}", r"\begin{document}",
+                       r"\section{Results}", "Table~\\ref{tab:ringmatch} shows the cases.",
+                       r"\input{results}", r"\end{document}", ""])
+    log = compile_latex(paper, tmp_path)
+    assert "Overfull" not in log, log[log.index("Overfull"):][:600]
 
 
 def test_cli_table_csv(results_file):
