@@ -404,6 +404,12 @@ def build_parser() -> argparse.ArgumentParser:
                                 prime_argument=prime_argument, positive_int=positive_int)
     p.set_defaults(run=sweep_command.command)
 
+    from . import scan_command
+    p = sub.add_parser("scan", help="a presentation file with integer parameters over cases × "
+                                    "a grid of values: which values agree with a reference")
+    scan_command.add_arguments(p, prime_argument=prime_argument, positive_int=positive_int)
+    p.set_defaults(run=scan_command.command)
+
     p = sub.add_parser("demo", help="an invented scenario: established presentations agree, "
                                     "a conjecture's first counterexample is found and reported")
     demo.add_arguments(p, positive_int=positive_int)

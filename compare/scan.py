@@ -1,0 +1,411 @@
+"""Scans: a presentation file with integer parameters, over a set of cases × a grid of values.
+
+For every grid point (an assignment of the parameters) and case the scan records what
+`check_case` says about the file's presentation next to a reference (default `whitney`):
+colength at a random specialisation, classical colength, whether the relations hold at the
+Bethe points, and the verdict.  Only the verdict word `agree` counts as agreement;
+`consistent`, `inconclusive` and anything else do not.
+
+Cost.  Most grid points of a wrong guess fail at the Bethe points already.  So a point is
+first checked with the points alone (no Gröbner basis); when its relations fail there it
+disagrees with the reference — the reference's ring is the ring of functions on those points,
+so a relation that does not vanish at one of them is not in the reference's ideal — and it is
+stored as such, without colengths.  `--colengths` computes them for every point instead (to
+tabulate the number of solutions at every level), at the price of a Gröbner basis each.
+
+Store.  Every (case, point) is one row of the results store, under the settings of a sweep of
+the reference and the file with the point's values (compare/store.py), plus the colength
+mode; a scan run again takes finished rows from the store.  Cases run in worker processes
+with the limits and progress display of sweeps (compare/sweep.py).
+
+Order.  By default every case × point is computed.  `narrow` goes through the cases from
+small to large and drops a point as soon as it disagrees; `first` goes through the points in
+grid order and stops at the first that agrees on every case (a point stops at its first
+disagreeing case).
+"""
+from __future__ import annotations
+
+import itertools
+import time
+from dataclasses import dataclass, field
+from typing import Callable, Dict, List, Optional, Sequence, Tuple
+
+from ringmatch.errors import UsageError
+from ringmatch.presentations.flagtype import FlagType
+
+from . import store
+from .sweep import (CaseTask, Limits, Source, case_order, family_of, load_sources,
+                    needs_computing, run_local, unsupported_reasons)
+
+DEFAULT_MAX_GRID = 5000        # grid points × cases a scan takes without --max-grid
+VERDICTS = ("agree", "consistent", "inconclusive", "disagree")
+
+Point = Tuple[Tuple[str, int], ...]    # the varied parameters' values, in axis order
+
+
+@dataclass(frozen=True)
+class Axis:
+    name: str
+    values: Tuple[int, ...]
+
+
+@dataclass
+class ScanPlan:
+    name: str                            # the file as the user named it
+    reference: Source
+    raw: bytes
+    spec: object                         # userfile_container.FileSpec
+    fixed: Dict[str, int]                # --set values (not varied)
+    axes: List[Axis]
+    points: List[Point]
+    flags: List[FlagType]
+    skipped: List[Tuple[str, str]]
+    settings: dict                       # seed, prime, equivariant, order, trials, colengths
+
+    def values(self, point: Point) -> Dict[str, int]:
+        """Every parameter's value at this point (varied, fixed and defaults)."""
+        from ringmatch.presentations import userfile
+        return userfile.bind_values(self.spec, {**self.fixed, **dict(point)})
+
+    def source(self, point: Point) -> Source:
+        return Source(self.name, self.raw, tuple(self.values(point).items()))
+
+    def sources(self, point: Point) -> Tuple[Source, Source]:
+        return (self.reference, self.source(point))
+
+    def family_name(self, point: Point) -> str:
+        return family_of(self.source(point)).name
+
+    def store_settings(self, point: Point) -> dict:
+        s = self.settings
+        settings = store.sweep_settings([source.record() for source in self.sources(point)],
+                                        equivariant=s["equivariant"], seed=s["seed"],
+                                        prime=s["prime"], order=s["order"], trials=s["trials"],
+                                        method="auto")
+        settings["scan"] = {"colengths": "all" if s["colengths"] else "unless refuted"}
+        return settings
+
+    def task(self, flag: FlagType, point: Point, method: str) -> CaseTask:
+        s = self.settings
+        return CaseTask(flag.name, self.sources(point), s["seed"], s["prime"], s["equivariant"],
+                        s["order"], s["trials"], method)
+
+
+@dataclass
+class ScanOutcome:
+    plan: ScanPlan
+    results: Dict[Tuple[str, Point], dict] = field(default_factory=dict)   # (case, point) → record
+    dropped: Dict[Point, str] = field(default_factory=dict)    # narrow/first: point → at which case
+    stopped_at: Optional[Point] = None                         # first: the agreeing point
+    from_store: int = 0
+    computed: int = 0
+    wall: float = 0.0
+
+    def record(self, flag: FlagType, point: Point) -> Optional[dict]:
+        return self.results.get((flag.name, point))
+
+    def agreeing(self, flag: FlagType) -> List[Point]:
+        return [p for p in self.plan.points
+                if (self.record(flag, p) or {}).get("verdict") == "agree"]
+
+    def agreeing_everywhere(self) -> List[Point]:
+        """Points that agree on every case of the scan (all of them computed)."""
+        return [p for p in self.plan.points
+                if all((self.record(f, p) or {}).get("verdict") == "agree"
+                       for f in self.plan.flags)]
+
+
+# ---------------------------------------------------------------------------------------
+# The grid
+
+def parse_axis(text: str) -> Tuple[str, Tuple[int, ...]]:
+    """`NAME=V1,V2,…` or `NAME=LOW..HIGH` (argparse type of --vary)."""
+    import argparse
+    import re
+    match = re.fullmatch(r"\s*([A-Za-z][A-Za-z0-9]*)\s*=\s*(.+?)\s*", text)
+    if not match:
+        raise argparse.ArgumentTypeError(f"{text!r}: expected NAME=V1,V2,… or NAME=LOW..HIGH")
+    name, body = match.group(1), match.group(2)
+    span = re.fullmatch(r"([+-]?[0-9]{1,7})\s*\.\.\s*([+-]?[0-9]{1,7})", body)
+    if span:
+        low, high = int(span.group(1)), int(span.group(2))
+        if high < low:
+            raise argparse.ArgumentTypeError(f"{text!r}: empty range {low}..{high}")
+        if high - low >= 100_000:
+            raise argparse.ArgumentTypeError(f"{text!r}: more than 100000 values")
+        return name, tuple(range(low, high + 1))
+    items = [t.strip() for t in body.split(",")]
+    if not all(re.fullmatch(r"[+-]?[0-9]{1,7}", t) for t in items):
+        raise argparse.ArgumentTypeError(f"{text!r}: values must be integers (at most 7 digits), "
+                                         "listed with commas or as LOW..HIGH")
+    values = tuple(int(t) for t in items)
+    if len(set(values)) != len(values):
+        raise argparse.ArgumentTypeError(f"{text!r}: a value is listed twice")
+    return name, values
+
+
+def grid_axes(spec, fixed: Dict[str, int], vary: Sequence[Tuple[str, Tuple[int, ...]]]
+              ) -> List[Axis]:
+    """One axis per declared parameter not fixed by --set; a per-step parameter is one axis
+    whose value every step takes.  --vary restricts an axis to listed values (checked
+    against the declaration)."""
+    from ringmatch.presentations import userfile
+    declared = {p.name: p for p in spec.parameters}
+    restricted: Dict[str, Tuple[int, ...]] = {}
+    for name, values in vary:
+        if name not in declared:
+            raise UsageError(f"--vary {name}: {spec.name} has no parameter {name} (it declares "
+                             f"{', '.join(declared) or 'none'})")
+        if name in restricted:
+            raise UsageError(f"--vary {name}: given twice")
+        if name in fixed:
+            raise UsageError(f"--vary {name} and --set {name}: vary it or fix it, not both")
+        for value in values:
+            userfile.bind_values(spec, {**fixed, name: value})   # raises file:line:col if outside
+        restricted[name] = values
+    axes = []
+    for p in spec.parameters:
+        if p.name in fixed or any(key.startswith(p.name + "_") for key in fixed if p.per_step):
+            continue
+        axes.append(Axis(p.name, restricted.get(p.name, p.values)))
+    return axes
+
+
+def grid_points(axes: Sequence[Axis]) -> List[Point]:
+    return [tuple(zip((a.name for a in axes), values))
+            for values in itertools.product(*(a.values for a in axes))]
+
+
+def grid_size(axes: Sequence[Axis]) -> int:
+    size = 1
+    for axis in axes:
+        size *= len(axis.values)
+    return size
+
+
+def point_text(point: Point) -> str:
+    return ", ".join(f"{k}={v}" for k, v in point) or "(no parameters)"
+
+
+def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney",
+              fixed: Optional[Dict[str, int]] = None,
+              vary: Sequence[Tuple[str, Tuple[int, ...]]] = (), seed: int = 0,
+              prime: Optional[int] = None, equivariant: bool = True, order: int = 6,
+              trials: int = 1, colengths: bool = False,
+              max_grid: int = DEFAULT_MAX_GRID) -> ScanPlan:
+    """Everything checked before any computation: the file, the values, the grid's size."""
+    from ringmatch.presentations import userfile
+    from . import algebra
+    fixed = dict(fixed or {})
+    spec = userfile.spec_of(name)
+    if spec is None:
+        raise UsageError(f"{name}: scan takes a presentation file with parameters "
+                         "([[parameters]], docs/presentation-files.md)")
+    if not spec.parameters:
+        raise UsageError(f"{name}: the file declares no parameters; nothing to scan "
+                         "(use check or sweep)")
+    for key in fixed:
+        if not userfile.accepts(spec, key):
+            raise UsageError(f"--set {key}={fixed[key]}: {spec.name} has no such parameter "
+                             f"(it declares {', '.join(userfile.declared_names(spec))})")
+    userfile.bind_values(spec, {**fixed, **{p.name: p.values[0] for p in spec.parameters}})
+    axes = grid_axes(spec, fixed, vary)
+    size = grid_size(axes)
+    # Estimated before anything is built or written: the product can be astronomically large.
+    if size * max(1, len(flags)) > max_grid:
+        raise UsageError(f"the scan has {size} grid point(s) × {len(flags)} case(s) = "
+                         f"{size * len(flags)} checks, more than the limit {max_grid}; narrow "
+                         "it with --vary/--set or fewer cases, or raise --max-grid")
+    reference_source, file_source = load_sources([reference, name], fixed)
+    points = grid_points(axes)
+    plan = ScanPlan(name, reference_source, file_source.raw, spec, fixed, axes, points, [], [],
+                    {"seed": int(seed), "prime": int(prime or algebra.DEFAULT_PRIME),
+                     "equivariant": bool(equivariant), "order": int(order),
+                     "trials": int(trials), "colengths": bool(colengths)})
+    probe = plan.sources(points[0])
+    for flag in sorted(flags, key=case_order):
+        reasons = unsupported_reasons(flag, probe)
+        if reasons:
+            plan.skipped.append((flag.name, "; ".join(reasons)))
+        else:
+            plan.flags.append(flag)
+    return plan
+
+
+# ---------------------------------------------------------------------------------------
+# Running
+
+def point_record(plan: ScanPlan, flag: FlagType, point: Point, result: dict,
+                 refuted: bool, seconds: float) -> dict:
+    """What the scan reports of one case at one point (from a check result)."""
+    name = plan.family_name(point)
+    report = result.get("presentations", {}).get(name, {})
+    record = {"case": flag.name, "rank": flag.rank, "values": dict(point),
+              "colength": report.get("colength"),
+              "classical_colength": report.get("classical_colength"),
+              "holds": report.get("holds"),
+              "verdict": result.get("verdict", "inconclusive"),
+              "reason": result.get("reason", ""),
+              "refuted_by_points": refuted, "seconds": round(float(seconds), 3)}
+    for key in ("holds_exact", "holds_order"):
+        if key in report:
+            record[key] = report[key]
+    return record
+
+
+def refuted_at_points(plan: ScanPlan, point: Point, result: dict) -> bool:
+    report = result.get("presentations", {}).get(plan.family_name(point), {})
+    return report.get("holds") is False
+
+
+def refutation(result: dict, plan: ScanPlan, point: Point) -> dict:
+    """A points-only result turned into the stored disagreement."""
+    out = dict(result)
+    out["verdict"] = "disagree"
+    out["reason"] = (f"{plan.family_name(point)}: some relations do not vanish at the Bethe "
+                     "points of the reference (no Gröbner basis computed)")
+    out["scan"] = {"refuted_by_points": True}
+    return out
+
+
+def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: ScanOutcome,
+             conn, *, workers: int, limits: Limits,
+             progress: Optional[Callable] = None, run_command: Optional[str] = None) -> None:
+    """Compute (or take from the store) every (case, point) of `items` into `outcome`."""
+    todo: List[Tuple[FlagType, Point]] = []
+    for flag, point in items:
+        if (flag.name, point) in outcome.results:
+            continue
+        row = store.stored_rows(conn, plan.store_settings(point)).get(flag.name)
+        if row is not None and not needs_computing(row, limits):
+            result = row["result"]
+            outcome.results[(flag.name, point)] = point_record(
+                plan, flag, point, result, bool(result.get("scan", {}).get("refuted_by_points")),
+                row["seconds"])
+            outcome.from_store += 1
+        else:
+            todo.append((flag, point))
+    if not todo:
+        return
+    run = store.run_record(run_command)
+    started = time.monotonic()
+    done = [0]
+    total = len(todo)
+
+    def save(flag: FlagType, point: Point, result: dict, seconds: float, refuted: bool):
+        store.save_result(conn, plan.store_settings(point), result, seconds, run=run)
+        outcome.results[(flag.name, point)] = point_record(plan, flag, point, result, refuted,
+                                                           seconds)
+        outcome.computed += 1
+        done[0] += 1
+        if progress:
+            progress(done[0], total, time.monotonic() - started,
+                     f"{flag.name} {point_text(point)}")
+
+    if progress:
+        progress(0, total, 0.0, "")
+    second: List[Tuple[FlagType, Point]] = []
+    if plan.settings["colengths"]:
+        second = list(todo)
+    else:
+        first_seconds: Dict[int, float] = {}
+
+        def after_points(index: int, result: dict, seconds: float):
+            flag, point = todo[index]
+            first_seconds[index] = seconds
+            if not result.get("presentations"):
+                save(flag, point, result, seconds, False)     # a limit or an error: as is
+            elif refuted_at_points(plan, point, result):
+                save(flag, point, refutation(result, plan, point), seconds, True)
+            else:
+                second.append((flag, point))
+            return None
+
+        run_local([(i, plan.task(f, p, "points")) for i, (f, p) in enumerate(todo)], limits,
+                  workers, after_points)
+
+    def after_full(index: int, result: dict, seconds: float):
+        flag, point = second[index]
+        save(flag, point, result, seconds, False)
+        return None
+
+    if second:
+        run_local([(i, plan.task(f, p, "auto")) for i, (f, p) in enumerate(second)], limits,
+                  workers, after_full)
+
+
+def run_scan(plan: ScanPlan, store_path, *, mode: str = "all", workers: int = 1,
+             limits: Limits = Limits(), progress: Optional[Callable] = None,
+             command: Optional[str] = None) -> ScanOutcome:
+    """mode: "all" (every case × point), "narrow" (cases small to large, a point dropped at
+    its first disagreement), "first" (points in grid order, stop at the first that agrees on
+    every case), "first-narrow" (both)."""
+    outcome = ScanOutcome(plan)
+    started = time.monotonic()
+    conn = store.open_store(store_path)
+    kwargs = dict(workers=workers, limits=limits, progress=progress, run_command=command)
+    try:
+        if mode == "all":
+            evaluate(plan, [(f, p) for f in plan.flags for p in plan.points], outcome, conn,
+                     **kwargs)
+        elif mode == "narrow":
+            alive = list(plan.points)
+            for flag in plan.flags:
+                evaluate(plan, [(flag, p) for p in alive], outcome, conn, **kwargs)
+                for point in alive:
+                    if outcome.record(flag, point)["verdict"] == "disagree":
+                        outcome.dropped[point] = flag.name
+                alive = [p for p in alive if p not in outcome.dropped]
+                if not alive:
+                    break
+        elif mode in ("first", "first-narrow"):
+            for point in plan.points:
+                if mode == "first":
+                    evaluate(plan, [(f, point) for f in plan.flags], outcome, conn, **kwargs)
+                else:
+                    for flag in plan.flags:
+                        evaluate(plan, [(flag, point)], outcome, conn, **kwargs)
+                        if outcome.record(flag, point)["verdict"] == "disagree":
+                            outcome.dropped[point] = flag.name
+                            break
+                if all((outcome.record(f, point) or {}).get("verdict") == "agree"
+                       for f in plan.flags):
+                    outcome.stopped_at = point
+                    break
+        else:
+            raise ValueError(f"unknown scan mode {mode!r}")
+    finally:
+        conn.close()
+    outcome.wall = time.monotonic() - started
+    return outcome
+
+
+# ---------------------------------------------------------------------------------------
+# Results
+
+def outcome_json(outcome: ScanOutcome, store_path=None) -> dict:
+    plan = outcome.plan
+    points = [outcome.results[(f.name, p)] for f in plan.flags for p in plan.points
+              if (f.name, p) in outcome.results]
+    everywhere = outcome.agreeing_everywhere()
+    return {
+        "presentation": plan.name,
+        "file_name": plan.spec.name,
+        "reference": family_of(plan.reference).name,
+        "parameters": [a.name for a in plan.axes],
+        "fixed": dict(plan.fixed),
+        "axes": {a.name: list(a.values) for a in plan.axes},
+        "cases": [f.name for f in plan.flags],
+        "points": points,
+        "agreeing": {f.name: [dict(p) for p in outcome.agreeing(f)] for f in plan.flags},
+        "agreeing_everywhere": [dict(p) for p in everywhere],
+        "agrees_up_to_rank": max((f.rank for f in plan.flags), default=None)
+        if everywhere else None,
+        "dropped": [{"values": dict(p), "at": case} for p, case in outcome.dropped.items()],
+        "stopped_at": dict(outcome.stopped_at) if outcome.stopped_at is not None else None,
+        "skipped": [{"case": c, "reason": r} for c, r in plan.skipped],
+        "settings": plan.settings,
+        "from_store": outcome.from_store,
+        "computed": outcome.computed,
+        "store": None if store_path is None else str(store_path),
+    }
