@@ -45,7 +45,7 @@ def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_ne
 
 
 def command(args) -> int:
-    from .cli import UsageError
+    from ringmatch.errors import UsageError
     try:
         return _run(args)
     except InputError as error:

@@ -4,7 +4,7 @@ Every family whose generators include the λ_j(S_i) (meaning kind `lambda_S`, se
 meanings.py) builds its relations from these, and the engine uses them to write classes in
 the common λ-class ring (compare/transport.py).  They live next to the meanings, not in one
 family's module, so that no family and no engine module depends on another family.
-Conventions (docs/mathematics.md, "Flag types"): S_0 = 0 and S_{m+1} = C^n, whose Chern roots
+Conventions (docs/mathematics.md §1.1, §1.4): S_0 = 0 and S_{m+1} = C^n, whose Chern roots
 are the weights T_1…T_n.
 """
 from __future__ import annotations

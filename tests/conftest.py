@@ -1,13 +1,67 @@
-"""Say up front how many tests run and how long the last whole run took.
+"""What every test module shares, and the shape of a run.
 
-With `-q` (the project's default) pytest prints only dots, and the whole suite runs for
+Helpers, imported by name (`from conftest import ROOT, run_cli`): `ROOT`, the repository;
+`run_cli(...)`, the `ringmatch` command in a fresh interpreter, as a user runs it;
+`examples(n)`, the number of Hypothesis examples for a property whose full count is n.
+
+Shape of a run: tests marked `slow` are left out unless `--slow` is given (CI gives it:
+.ci/run), and Hypothesis runs a fifth of the written example counts unless the `ci` profile
+is loaded (`--hypothesis-profile=ci`, or HYPOTHESIS_PROFILE=ci), so that a default run stays
+well under five minutes on two cores while CI runs everything at full strength.
+
+The header line says up front how many tests run and how long the last whole run took.  With `-q` (the project's default) pytest prints only dots, and the whole suite runs for
 minutes; a count and a duration tell a newcomer that nothing hangs.  The duration is the
 one measured on this machine by the last complete run (kept in pytest's cache), so it is
 never a guess; before any run the note falls back to the order of magnitude.
 """
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
 import time
+from pathlib import Path
+
+import pytest
+from hypothesis import settings
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def run_cli(*args, cwd=ROOT, env=None, timeout: float = 300) -> subprocess.CompletedProcess:
+    """`ringmatch ARGS` as a separate process (exit status, stdout and stderr as text): what
+    a user sees, including the one-line errors and exit statuses of `main`."""
+    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *map(str, args)],
+                          cwd=cwd, env=env, capture_output=True, text=True, timeout=timeout)
+
+
+# The example counts written in the tests are CI's; a default run takes a fifth of each.
+CI_EXAMPLES = 100
+settings.register_profile("ci", max_examples=CI_EXAMPLES, deadline=None)
+settings.register_profile("default", max_examples=CI_EXAMPLES // 5, deadline=None)
+settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "default"))
+
+
+def examples(full: int) -> int:
+    """Hypothesis examples for a property test whose full (CI) count is `full`: all of them
+    under the `ci` profile, a fifth (at least 10) under the default one.  Read when the test
+    module is imported, after `--hypothesis-profile` has been applied."""
+    return max(min(full, 10), full * settings.default.max_examples // CI_EXAMPLES)
+
+
+def pytest_addoption(parser):
+    parser.addoption("--slow", action="store_true", default=False,
+                     help="also run the tests marked slow (CI does)")
+
+
+def pytest_collection_modifyitems(config, items):
+    # An explicit -m decides by itself (`-m slow` runs only the slow ones).
+    if config.getoption("slow") or config.option.markexpr:
+        return
+    slow = [item for item in items if item.get_closest_marker("slow")]
+    if slow:
+        config.hook.pytest_deselected(items=slow)
+        items[:] = [item for item in items if not item.get_closest_marker("slow")]
 
 _CACHE_KEY = "ringmatch/whole-suite-seconds"
 _state = {}
@@ -24,7 +78,8 @@ def pytest_collection_finish(session):
     _state["count"], _state["start"] = count, time.monotonic()
     option = session.config.option
     _state["whole"] = all(arg.rstrip("/").endswith("tests") for arg in session.config.args) \
-        and not option.keyword and not option.markexpr and not option.maxfail
+        and not option.keyword and not option.markexpr and not option.maxfail \
+        and not option.slow   # the cached duration is that of the default run
     if count == 0:
         return
     cache = getattr(session.config, "cache", None)

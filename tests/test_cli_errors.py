@@ -1,13 +1,8 @@
 """Bad input: one line on stderr naming the problem, exit status 2, no traceback."""
-import subprocess
-import sys
 
 import pytest
 
-
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
-                          capture_output=True, text=True, timeout=120)
+from conftest import run_cli as run
 
 
 @pytest.mark.parametrize("args, fragment", [

@@ -1,10 +1,6 @@
 """The demo scenario (compare/demo.py, presentations/files/demo/kestrel-conjecture.toml):
 its conjecture is right exactly where it should be, wrong from Gr(4;5) on, and the demo
 finds and reports that."""
-import subprocess
-import sys
-from pathlib import Path
-
 import sympy
 
 from ringmatch.compare import store, sweep
@@ -14,7 +10,7 @@ from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.presentations.interface import build_symbolic
 from ringmatch.reports.formulas import to_sympy
 
-ROOT = Path(__file__).resolve().parent.parent
+from conftest import run_cli
 CONJECTURE = "kestrel-conjecture"
 
 
@@ -71,9 +67,7 @@ def test_conjecture_is_wrong_beyond_the_first_counterexample_too():
 
 
 def test_demo_writes_the_report_and_tables_and_says_what_it_found(tmp_path):
-    finished = subprocess.run(
-        [sys.executable, "-m", "ringmatch.compare.cli", "demo", "--out", str(tmp_path / "out"),
-         "--confirm-max-n", "3"], cwd=ROOT, capture_output=True, text=True, timeout=240)
+    finished = run_cli("demo", "--out", tmp_path / "out", "--confirm-max-n", "3")
     assert finished.returncode == 0, finished.stderr
     assert "4 flag types" in finished.stdout and "4 agree" in finished.stdout
     assert "first fails at Gr(4;5)" in finished.stdout

@@ -12,8 +12,6 @@ import contextlib
 import io
 import json
 import shlex
-import subprocess
-import sys
 
 import pytest
 import sympy
@@ -25,6 +23,7 @@ from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.reports.discrepancy import case_file_stem, report_record, write_report
 
 from broken_variants import flipped_q_sign
+from conftest import run_cli
 
 FL3 = parse_flag("Fl(1,2;3)")
 SEED = 11
@@ -180,11 +179,6 @@ def test_agreement_has_no_witness_section(tmp_path):
 ])
 def test_file_names(case, equivariant, stem):
     assert case_file_stem(case, equivariant) == stem
-
-
-def run_cli(*args, cwd=None):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], capture_output=True,
-                          text=True, timeout=120, cwd=cwd)
 
 
 def test_cli_report_option(tmp_path):

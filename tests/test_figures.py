@@ -5,8 +5,6 @@ The cases are real `check_case` results with all three verdicts.
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 import xml.etree.ElementTree as ET
 
 import pytest
@@ -21,6 +19,8 @@ from ringmatch.presentations.flagtype import parse_flag  # noqa: E402
 from ringmatch.reports.figures import (VERDICT_STYLES, FigureError, agreement_map,  # noqa: E402
                              choose_layout, marker_positions, stored_provenance)
 from ringmatch.reports.frames import frame_record, row_from_result  # noqa: E402
+
+from conftest import run_cli  # noqa: E402
 
 CASES = [("P1", ("whitney", "vieta"), "auto"), ("P2", ("whitney", "vieta"), "auto"),
          ("Gr(2;4)", ("whitney", "vieta"), "auto"),
@@ -65,7 +65,10 @@ def test_png_size_content_and_metadata(rows, tmp_path):
     text = stored_provenance(path)
     assert "produced by: ringmatch figure t" in text
     assert str(rows[0]["result"]["certificate"]["prime"]) in text
-    assert "Fl(3) 9" in text and "layout: steps" in text
+    assert "Fl(3) 9" in text and "layout: list" in text
+    # the note printed under the plot is stored too: presentations, sizes, count
+    assert "note: whitney, vieta | whitney, whitney-sign-error (equivariant)" in text
+    assert "note: 7 cases, 2 ≤ n ≤ 4, rank ≤ 12" in text
 
 
 @pytest.mark.parametrize("suffix", ["svg", "pdf"])
@@ -92,11 +95,66 @@ def test_markers_stay_in_their_cells(rows):
     assert len({(m.x, m.y) for m in markers}) == len(markers)
 
 
+def test_every_case_has_its_own_position_and_markers_one_size(rows):
+    records = [frame_record(row) for row in rows]
+    for layout in ("list", "steps", "grassmannian"):
+        markers = marker_positions(records, layout)
+        assert len({(m.x, m.y) for m in markers}) == len(markers), layout
+        assert len({m.size for m in markers}) == 1, layout     # size encodes nothing
+    listed = marker_positions(records, "list")
+    assert {m.x for m in listed} == {float(r["n"]) for r in records}   # one column per n
+    assert all(m.y == int(m.y) for m in listed)
+
+
+def test_list_layout_names_every_case_and_marks_counterexamples(rows, tmp_path):
+    path = agreement_map(rows, tmp_path / "map.svg")
+    svg = path.read_text()
+    # matplotlib writes each text as a comment with the string before its glyphs
+    for row in rows:
+        assert f"<!-- {row['case']} -->" in svg, row["case"]
+
+
+def test_grid_layouts_name_the_counterexamples(rows, tmp_path):
+    path = agreement_map(rows, tmp_path / "map.svg", layout="steps")
+    svg = path.read_text()
+    disagreeing = [r["case"] for r in rows if r["verdict"] == "disagree"]
+    assert disagreeing
+    for case in disagreeing:
+        assert f"<!-- {case} -->" in svg
+    assert "<!-- P1 -->" not in svg          # agreeing cases stay unnamed in a grid
+
+
+def test_consistent_is_its_own_verdict_never_agreement(rows, tmp_path):
+    """`consistent` (relations vanish at the Bethe points to order s^N, not proven) has its
+    own colour, marker and legend entry, and is not counted with `agree`."""
+    assert VERDICT_STYLES["consistent"].colour != VERDICT_STYLES["agree"].colour
+    altered = [dict(row) for row in rows]
+    agreeing = [i for i, row in enumerate(altered) if row["verdict"] == "agree"]
+    altered[agreeing[0]] = dict(altered[agreeing[0]], verdict="consistent")
+    path = agreement_map(altered, tmp_path / "map.png", dpi=100)
+    with Image.open(path) as image:
+        assert pixels_near(image, hex_rgb(VERDICT_STYLES["consistent"].colour)) > 20
+    svg = agreement_map(altered, tmp_path / "map.svg").read_text()
+    agree = sum(row["verdict"] == "agree" for row in altered)
+    assert f"<!-- consistent (1) -->" in svg and f"<!-- agree ({agree}) -->" in svg
+    assert "not proven" in stored_provenance(path)
+
+
+def test_selection_of_rows(rows, tmp_path):
+    path = agreement_map(rows, tmp_path / "map.png", presentations=("vieta", "whitney"))
+    assert "note: whitney, vieta (equivariant)" in stored_provenance(path)
+    with pytest.raises(FigureError, match="of that selection"):
+        agreement_map(rows, tmp_path / "map.png", equivariant=False)
+
+
 def test_grassmannian_layout(rows):
     records = [frame_record(row) for row in rows]
     grassmannians = [r for r in records if r["kind"] == "grassmannian"]
-    assert choose_layout(grassmannians, "auto") == "grassmannian"
-    assert choose_layout(records, "auto") == "steps"
+    assert choose_layout(grassmannians, "auto") == "list"     # few cases: all named
+    many = [dict(r, case=f"{r['case']}#{i}") for i in range(12) for r in grassmannians]
+    assert choose_layout(many, "auto") == "grassmannian"
+    assert choose_layout([dict(r, case=f"{r['case']}#{i}") for i in range(12)
+                          for r in records], "auto") == "steps"
     markers = marker_positions(records, "grassmannian")
     assert sorted((round(m.x), round(m.y)) for m in markers) == [(2, 1), (3, 1), (4, 2)]
 
@@ -148,13 +206,10 @@ def test_cli_figure(rows, tmp_path):
     source = tmp_path / "results.json"
     source.write_text(json.dumps([row["result"] for row in rows]))
     out = tmp_path / "agreement.png"
-    run = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", "figure", str(source),
-                          "--out", str(out)], capture_output=True, text=True, timeout=120)
+    run = run_cli("figure", source, "--out", out)
     assert run.returncode == 0, run.stderr
     with Image.open(out) as image:
         assert image.size[0] == 990                            # 3.3 in at 300 dpi
     assert f"ringmatch figure {source}" in stored_provenance(out)
-    bad = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", "figure", str(source),
-                          "--out", str(tmp_path / "x.jpg")], capture_output=True, text=True,
-                         timeout=120)
+    bad = run_cli("figure", source, "--out", tmp_path / "x.jpg")
     assert bad.returncode == 2 and len(bad.stderr.strip().splitlines()) == 1

@@ -18,6 +18,8 @@ from hypothesis import strategies as st
 from ringmatch.compare import groebner as G
 from ringmatch.compare.algebra import DEFAULT_PRIME
 
+from conftest import examples
+
 SMALL_PRIME = 32003
 SYMPY_ORDER = {"degrevlex": "grevlex", "deglex": "grlex", "lex": "lex"}
 ORDERINGS = tuple(SYMPY_ORDER)
@@ -66,7 +68,7 @@ def brute_force_colength(leading, bound):
 # ---------------------------------------------------------------------------------------
 # What the engine relies on from FLINT
 
-@settings(max_examples=60, deadline=None)
+@settings(max_examples=examples(60), deadline=None)
 @given(st.sampled_from(ORDERINGS), st.data())
 def test_flint_remainder_has_no_term_divisible_by_leading_monomial(ordering, data):
     ctx = flint.nmod_mpoly_ctx.get(("x", "y", "z"), DEFAULT_PRIME, ordering)
@@ -135,7 +137,7 @@ def reference_sorted(basis, ordering):
     return sorted(basis, key=lambda g: key(max(g, key=key)))
 
 
-@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(100), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.integers(2, 3), st.sampled_from(ORDERINGS), st.data())
 def test_zero_dimensional_ideals_match_sympy(nvars, ordering, data):
     ctx = flint.nmod_mpoly_ctx.get(tuple("xyz"[:nvars]), SMALL_PRIME, ordering)
@@ -151,7 +153,7 @@ def test_zero_dimensional_ideals_match_sympy(nvars, ordering, data):
         assert G.is_member(f, ours)
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(40), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.sampled_from(ORDERINGS), st.data())
 def test_ideals_without_forced_pure_powers_match_sympy(ordering, data):
     ctx = flint.nmod_mpoly_ctx.get(("x", "y", "z"), SMALL_PRIME, ordering)
@@ -163,7 +165,7 @@ def test_ideals_without_forced_pure_powers_match_sympy(ordering, data):
             G.standard_monomials(ours)
 
 
-@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(60), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.sampled_from(ORDERINGS), st.data())
 def test_ideals_with_linear_relations_match_sympy(ordering, data):
     """Linear relations are solved first and their variables dropped from the ring; the

@@ -19,8 +19,6 @@ from __future__ import annotations
 import itertools
 import json
 import math
-import subprocess
-import sys
 
 import pytest
 import sympy
@@ -32,6 +30,7 @@ from ringmatch.presentations.flagtype import FlagType, parse_flag
 from ringmatch.reports.isomorphism import as_json, coefficient_expression, formula_expression
 
 from broken_variants import flipped_q_sign
+from conftest import run_cli as run
 
 
 def flag_types(max_n):
@@ -188,11 +187,6 @@ def test_same_seed_same_answer():
 
 # ---------------------------------------------------------------------------------------
 # Command line
-
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
-                          capture_output=True, text=True, timeout=300)
-
 
 def test_iso_json_contract():
     result = run("iso", "Gr(2,5)", "--from", "vieta", "--to", "whitney", "--json", "--seed", "1")

@@ -15,8 +15,6 @@ import dataclasses
 import itertools
 import json
 import math
-import subprocess
-import sys
 
 import pytest
 import sympy
@@ -29,6 +27,7 @@ from ringmatch.presentations.interface import Family, Generator, build_series
 from ringmatch.presentations.meanings import Meaning, lambda_Q, lambda_S
 
 from broken_variants import flipped_q_sign
+from conftest import run_cli as run
 
 SMALL_PRIME = 1000003
 
@@ -324,11 +323,6 @@ def test_generators_that_do_not_separate_points_are_flagged():
 
 # ---------------------------------------------------------------------------------------
 # Command line
-
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
-                          capture_output=True, text=True, timeout=120)
-
 
 def test_points_json_contract():
     p, N = 1000003, 5

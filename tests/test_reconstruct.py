@@ -25,6 +25,8 @@ from sympy.utilities.iterables import partitions
 
 from ringmatch.compare import reconstruct
 
+from conftest import examples
+
 P = 4611686018427387847
 SMALL = 1000003
 
@@ -32,7 +34,7 @@ SMALL = 1000003
 # ---------------------------------------------------------------------------------------
 # Integers
 
-@settings(max_examples=200, deadline=None)
+@settings(max_examples=examples(200), deadline=None)
 @given(st.integers(-2**29, 2**29), st.integers(1, 2**29))
 def test_rational_number_round_trip(n, d):
     value = Fraction(n, d)
@@ -51,7 +53,7 @@ def test_rational_number_refuses_what_is_too_tall():
     assert reconstruct.rational_number(both, M) == value
 
 
-@settings(max_examples=100, deadline=None)
+@settings(max_examples=examples(100), deadline=None)
 @given(st.lists(st.integers(0, 10**6), min_size=1, max_size=4))
 def test_chinese_remainder_matches_sympy(values):
     moduli = [1000003, 1000033, 1000037, 1000039][:len(values)]

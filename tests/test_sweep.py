@@ -16,12 +16,9 @@ from ringmatch.compare import store, sweep
 from ringmatch.reports import sweeps as sweep_text
 from ringmatch.presentations.flagtype import parse_flag
 
+from conftest import run_cli as ringmatch
+
 ROOT = Path(__file__).resolve().parent.parent
-
-
-def ringmatch(*args, cwd=ROOT):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], cwd=cwd,
-                          capture_output=True, text=True, timeout=240)
 
 
 def comparable(result: dict) -> dict:

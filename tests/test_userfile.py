@@ -13,8 +13,6 @@ import itertools
 import json
 import os
 import re
-import subprocess
-import sys
 import textwrap
 from pathlib import Path
 
@@ -29,6 +27,8 @@ from ringmatch.presentations.interface import (Family, PresentationError, build_
 from ringmatch.presentations.meanings import Meaning
 from ringmatch.presentations.userfile import PresentationFileError, case_file_text, family_from_text
 from ringmatch.reports.formulas import to_sympy
+
+from conftest import run_cli
 
 ROOT = Path(__file__).resolve().parent.parent
 FILES = ROOT / "presentations" / "files"
@@ -606,11 +606,6 @@ def test_python_looking_text_is_only_ever_parsed():
 
 # ---------------------------------------------------------------------------------------
 # Command line
-
-def run_cli(*args, env=None, cwd=ROOT):
-    return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args], capture_output=True,
-                          text=True, timeout=300, env=env, cwd=cwd)
-
 
 def test_cli_relations_from_a_family_file():
     result = run_cli("relations", "Fl(1,3;5)", "--presentation",

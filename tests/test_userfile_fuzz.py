@@ -23,6 +23,8 @@ from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.presentations.interface import build_specialised
 from ringmatch.presentations.userfile import PresentationFileError, family_from_text
 
+from conftest import examples
+
 LABEL = "fuzz.toml"
 SMALL_CASES = [parse_flag(c) for c in ("Gr(1;2)", "Fl(1,2;3)", "Gr(2;4)", "Fl(1,3;4)", "Fl(4)")]
 SPECS = {flag: algebra.draw_specialisation(flag.n, flag.m, seed=7) for flag in SMALL_CASES}
@@ -203,8 +205,8 @@ def grammar_built_file(draw) -> str:
     return SOUP_CONTAINER.format(unit=unit, loops=loops, coefficients=coefficients, expr=expr)
 
 
-def fuzz_settings(examples: int) -> settings:
-    return settings(max_examples=examples, deadline=None,
+def fuzz_settings(full: int) -> settings:
+    return settings(max_examples=examples(full), deadline=None,
                     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large,
                                            HealthCheck.filter_too_much])
 
