@@ -246,22 +246,65 @@ def _output_command(words: List[str]) -> str:
     return shlex.join(["ringmatch", *words])
 
 
+def add_selection_arguments(p) -> None:
+    """table and figure: which rows of a store with several sweeps to show."""
+    p.add_argument("--sweep", metavar="KEY",
+                   help="only the rows of this sweep (the first digits of its key; a store "
+                        "with several sweeps lists them on stderr)")
+    p.add_argument("--presentations", dest="only_presentations", metavar="NAME,...",
+                   help="only the rows that compared exactly these presentations")
+    which = p.add_mutually_exclusive_group()
+    which.add_argument("--equivariant", dest="only_equivariant", action="store_const",
+                       const=True, help="only equivariant rows")
+    which.add_argument("--plain", dest="only_equivariant", action="store_const", const=False,
+                       help="only non-equivariant rows (T_j = 1)")
+
+
+def _selection(args) -> tuple:
+    """(keyword arguments of reports.frames.select_rows, the words that repeat them)."""
+    names = None
+    if args.only_presentations:
+        names = tuple(t.strip() for t in args.only_presentations.split(",") if t.strip())
+    words = ["--sweep", args.sweep] if args.sweep else []
+    words += ["--presentations", args.only_presentations] if names else []
+    words += {True: ["--equivariant"], False: ["--plain"], None: []}[args.only_equivariant]
+    return {"sweep": args.sweep, "presentations": names,
+            "equivariant": args.only_equivariant}, words
+
+
+def _note_several_sweeps(store: str, selection: dict) -> None:
+    """Rows of different settings side by side are easy to misread: say so, and how to pick."""
+    if selection["sweep"]:
+        return
+    from ringmatch.reports.frames import load_rows, select_rows, sweep_description, sweeps_in
+    sweeps = sweeps_in(select_rows(load_rows(store), **selection))
+    if len(sweeps) > 1:
+        print(f"ringmatch: note: {len(sweeps)} sweeps are shown together: "
+              + "; ".join(sweep_description(s) for s in sweeps)
+              + ". Choose one with --sweep KEY.", file=sys.stderr)
+
+
 def cmd_table(args) -> int:
     from ringmatch.reports.frames import SourceError
     from ringmatch.reports.tables import TableError, TableOptions, parse_columns, render
-    words = ["table", args.store, "--format", args.format]
+    selection, selection_words = _selection(args)
+    words = ["table", args.store, "--format", args.format, *selection_words]
     words += ["--columns", args.columns] if args.columns else []
     words += ["--group-by-n"] if args.group_by_n else []
     words += ["--relations"] if args.relations else []
     words += ["--isomorphisms"] if args.isomorphisms else []
     words += ["--standalone"] if args.standalone else []
+    words += ["--caption", args.caption] if args.caption else []
+    words += ["--label", args.label] if args.label else []
     try:
         options = TableOptions(
             columns=parse_columns(args.columns) if args.columns else TableOptions.columns,
             group_by_n=args.group_by_n, relations=args.relations,
             isomorphisms=args.isomorphisms,
-            standalone=args.standalone, command=_output_command(words))
+            standalone=args.standalone, command=_output_command(words),
+            caption=args.caption, label=args.label, **selection)
         text = render(args.store, args.format, options)
+        _note_several_sweeps(args.store, selection)
     except (SourceError, TableError) as error:
         raise UsageError(str(error)) from None
     sys.stdout.write(text)
@@ -271,10 +314,12 @@ def cmd_table(args) -> int:
 def cmd_figure(args) -> int:
     from ringmatch.reports.figures import FigureError, agreement_map
     from ringmatch.reports.frames import SourceError
-    words = ["figure", args.store, "--out", args.out, "--layout", args.layout]
+    selection, selection_words = _selection(args)
+    words = ["figure", args.store, "--out", args.out, "--layout", args.layout, *selection_words]
     try:
         path = agreement_map(args.store, args.out, layout=args.layout,
-                             command=_output_command(words))
+                             command=_output_command(words), **selection)
+        _note_several_sweeps(args.store, selection)
     except (SourceError, FigureError) as error:
         raise UsageError(str(error)) from None
     except OSError as error:
@@ -351,9 +396,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("store", help="results store of a sweep, or a .json file of check results")
     p.add_argument("--format", choices=["latex", "csv", "markdown"], default="markdown")
     p.add_argument("--columns", metavar="KEY,...",
-                   help="columns in order (case, kind, n, rank, presentations, verdict, reason, "
-                        "method, order, trials, exactness, certificate, prime, seed, seconds); "
-                        "default case,rank,presentations,verdict,certificate,seconds")
+                   help="columns in order (case, kind, n, rank, presentations, equivariant, "
+                        "verdict, reason, method, order, trials, exactness, certificate, prime, "
+                        "seed, seconds, sweep); default case,rank,presentations,equivariant,"
+                        "verdict,certificate,seconds (LaTeX moves what every row shares into "
+                        "the caption)")
     p.add_argument("--group-by-n", action="store_true", help="one block of rows per n")
     p.add_argument("--relations", action="store_true",
                    help="LaTeX/Markdown: print the relations of cases of rank ≤ 6 in display math")
@@ -363,6 +410,12 @@ def build_parser() -> argparse.ArgumentParser:
                         "check's seed, and print it in display math")
     p.add_argument("--standalone", action="store_true",
                    help="LaTeX: a complete document rather than a fragment for \\input")
+    p.add_argument("--caption", metavar="TEXT",
+                   help="first sentence of the caption (default: what was compared); the "
+                        "facts shared by every row and the verdict counts follow it")
+    p.add_argument("--label", metavar="LABEL",
+                   help="LaTeX \\label (default tab:ringmatch-<store name>)")
+    add_selection_arguments(p)
     p.set_defaults(run=cmd_table)
 
     p = sub.add_parser("figure", help="agreement map of a results store: cases coloured by "
@@ -373,6 +426,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--layout", choices=["auto", "steps", "grassmannian"], default="auto",
                    help="steps: n against the number of subspaces; grassmannian: k against n; "
                         "auto: grassmannian when every case is one")
+    add_selection_arguments(p)
     p.set_defaults(run=cmd_figure)
 
     p = sub.add_parser("iso", help="find an explicit isomorphism between two presentations: "

@@ -1,16 +1,26 @@
-"""Agreement map: every case of a sweep as a marker coloured by its verdict.
+"""Agreement map: every case of a sweep as a marker coloured and shaped by its verdict.
 
 Layouts:
+* "list" — one column per n, the cases of that n listed top to bottom (by number of
+  subspaces, then dimension vector), each marker followed by the case's name: every case is
+  named;
 * "steps" — x = n, y = m (number of subspaces: 1 for Grassmannians … n − 1 for complete
   flags); the cases sharing a cell (n, m) sit side by side in a small grid, ordered by
   their dimension vectors;
 * "grassmannian" — x = n, y = k for the Grassmannians Gr(k; n) of the source (other cases
   are left out and counted in the stored provenance);
-* "auto" — "grassmannian" when every case is one, else "steps".
+* "auto" — "list" up to LIST_MAX_CASES cases, else "grassmannian" when every case is one,
+  else "steps".
 
-The palette is ours: dark blue / orange / light grey differ in hue *and* lightness, so they stay
-distinct under the common colour-vision deficiencies and in greyscale, and each verdict
-also has its own marker shape.  Sized for one paper column (3.3 in wide).
+In every layout all markers have one size (size encodes nothing), counterexamples
+(`disagree`) are named beside their markers, the axes have integer ticks, and a note under
+the plot states which presentations, which sizes (n, rank) and how many cases it shows.
+
+The palette is ours: dark blue / yellow / orange / light grey differ in hue *and* lightness,
+so they stay distinct under the common colour-vision deficiencies and in greyscale, and each
+verdict also has its own marker shape.  `consistent` (relations vanish at the Bethe points
+to the stated order, not proven) has its own colour and shape and is never drawn or counted
+as agreement.  Sized for one paper column (3.3 in wide).
 
 The reproducibility block (reports.provenance) is stored in the file: PNG text chunks,
 SVG metadata (Dublin Core description), PDF document information (Subject).
@@ -26,11 +36,16 @@ from typing import Dict, List, Optional, Sequence, Tuple
 from ringmatch.errors import InputError
 
 from . import provenance as prov
-from .frames import Source, frame_record, load_rows
+from .frames import Source, distinct, frame_record, load_rows, select_rows
 
 FIGURE_FORMATS = ("png", "svg", "pdf")
-LAYOUTS = ("auto", "steps", "grassmannian")
+LAYOUTS = ("auto", "list", "steps", "grassmannian")
 COLUMN_WIDTH_INCHES = 3.3
+# Up to this many cases the "list" layout names every case; beyond, the names crowd.
+LIST_MAX_CASES = 40
+# Counterexamples named beside their markers in the grid layouts; the rest are counted.
+NAMED_COUNTEREXAMPLES = 8
+MARKER_SIZE = 22.0     # points^2, matplotlib's scatter size; one size for every marker
 
 
 @dataclass(frozen=True)
@@ -41,8 +56,9 @@ class VerdictStyle:
 
 
 VERDICT_STYLES: Dict[str, VerdictStyle] = {
-    "agree": VerdictStyle("agree", "#1F5FA6", "s"),            # dark blue, square
-    "disagree": VerdictStyle("disagree", "#F28E2B", "D"),      # light orange, diamond
+    "agree": VerdictStyle("agree", "#1F5FA6", "s"),              # dark blue, square
+    "consistent": VerdictStyle("consistent", "#F0E442", "^"),    # yellow, triangle
+    "disagree": VerdictStyle("disagree", "#F28E2B", "D"),        # orange, diamond
     "inconclusive": VerdictStyle("inconclusive", "#C8C8C8", "o"),   # light grey, circle
 }
 
@@ -57,19 +73,33 @@ class Marker:
     verdict: str
     x: float
     y: float
-    size: float       # points^2, matplotlib's scatter size
+    size: float       # points^2, matplotlib's scatter size (the same for every marker)
 
 
 def choose_layout(records: Sequence[dict], layout: str) -> str:
     if layout not in LAYOUTS:
         raise FigureError(f"unknown layout {layout!r}; choose from {', '.join(LAYOUTS)}")
     if layout == "auto":
+        if len(records) <= LIST_MAX_CASES:
+            return "list"
         return "grassmannian" if all(r["kind"] == "grassmannian" for r in records) else "steps"
     return layout
 
 
+def _listing_order(r: dict) -> tuple:
+    return (r["m"], r["dims"], r["verdict"])
+
+
 def marker_positions(records: Sequence[dict], layout: str) -> List[Marker]:
-    """Where each case goes; cases sharing a cell are packed in a square grid inside it."""
+    """Where each case goes.  "list": column n, row −i for the i-th case of that n;
+    grids: cases sharing a cell are packed in a square grid inside it."""
+    if layout == "list":
+        columns: Dict[int, List[dict]] = defaultdict(list)
+        for r in records:
+            columns[r["n"]].append(r)
+        return [Marker(r["case"], r["verdict"], float(n), float(-row), MARKER_SIZE)
+                for n, members in sorted(columns.items())
+                for row, r in enumerate(sorted(members, key=_listing_order))]
     cells: Dict[Tuple[int, int], List[dict]] = defaultdict(list)
     for r in records:
         if layout == "grassmannian":
@@ -77,6 +107,7 @@ def marker_positions(records: Sequence[dict], layout: str) -> List[Marker]:
                 cells[(r["n"], r["dims"][0])].append(r)
         else:
             cells[(r["n"], r["m"])].append(r)
+    widest = max((math.ceil(math.sqrt(len(m))) for m in cells.values()), default=1)
     markers = []
     for (x, y), members in sorted(cells.items()):
         members = sorted(members, key=lambda r: (r["dims"], r["verdict"]))
@@ -88,8 +119,9 @@ def marker_positions(records: Sequence[dict], layout: str) -> List[Marker]:
             in_row = min(side, len(members) - row * side)   # centre a short last row
             dx = (col - (in_row - 1) / 2) * pitch
             dy = ((rows - 1) / 2 - row) * pitch
+            # the densest cell sets one size for all: a bigger marker must not mean more
             markers.append(Marker(r["case"], r["verdict"], x + dx, y + dy,
-                                  size=70.0 / side ** 2))
+                                  size=min(MARKER_SIZE * 2.5, 70.0 / widest ** 2)))
     return markers
 
 
@@ -110,16 +142,45 @@ def metadata_for(fmt: str, text: str, title: str) -> dict:
     return {"Title": title, "Creator": creator, "Subject": text}
 
 
+def figure_note(records: Sequence[dict], shown: Sequence[Marker]) -> str:
+    """What the figure shows, in words: presentations, equivariance, sizes, counts."""
+    names = {m.case for m in shown}
+    chosen = [r for r in records if r["case"] in names]
+    sets = distinct(tuple(r["presentations"]) for r in chosen)
+    presentations = " | ".join(", ".join(s) for s in sets) or "–"
+    variants = distinct("equivariant" if r["equivariant"] in (True, None) else "plain"
+                        for r in chosen)
+    ns = [r["n"] for r in chosen]
+    ranks = [r["rank"] for r in chosen]
+    lines = [f"{presentations} ({' and '.join(variants)})",
+             f"{len(chosen)} case{'s' if len(chosen) != 1 else ''}, "
+             f"{min(ns)} ≤ n ≤ {max(ns)}, rank ≤ {max(ranks)}" if chosen else "no cases"]
+    limited = sum(1 for r in chosen if str(r.get("reason", "")).startswith("limit"))
+    if limited:
+        lines[-1] += f"; {limited} stopped by a resource limit"
+    orders = distinct(r["order"] for r in chosen if r["verdict"] == "consistent")
+    if orders:
+        lines.append("consistent: relations vanish at the Bethe points to order "
+                     + "/".join(f"s^{o}" for o in orders) + "; not proven")
+    return "\n".join(lines)
+
+
 def agreement_map(source: Source, out, *, layout: str = "auto", command: Optional[str] = None,
-                  width: float = COLUMN_WIDTH_INCHES, dpi: int = 300) -> Path:
+                  width: float = COLUMN_WIDTH_INCHES, dpi: int = 300,
+                  sweep: Optional[str] = None, presentations: Optional[Sequence[str]] = None,
+                  equivariant: Optional[bool] = None) -> Path:
     """Draw the agreement map of `source` into `out` (.png, .svg or .pdf) and return its
-    path.  `command` goes into the stored reproducibility block."""
+    path.  `command` goes into the stored reproducibility block; `sweep`, `presentations`
+    and `equivariant` select rows as reports.frames.select_rows does."""
     out = Path(out)
     fmt = figure_format(out)
-    rows = load_rows(source)
+    rows = select_rows(load_rows(source), sweep=sweep, presentations=presentations,
+                       equivariant=equivariant)
     records = [frame_record(row) for row in rows]
     if not records:
-        raise FigureError("no cases to draw: the source holds no results")
+        raise FigureError("no cases to draw: the source holds no results"
+                          + (" of that selection" if (sweep or presentations or
+                                                     equivariant is not None) else ""))
     layout = choose_layout(records, layout)
     markers = marker_positions(records, layout)
     if not markers:
@@ -131,9 +192,17 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
     from matplotlib.lines import Line2D
     from matplotlib.ticker import MaxNLocator
 
+    note = figure_note(records, markers)
+    note_lines = note.count("\n") + 1
     xs = sorted({round(m.x) for m in markers})
     ys = sorted({round(m.y) for m in markers})
-    height = max(2.0, min(4.0, 0.9 + 0.42 * (ys[-1] - ys[0] + 1)))
+    rows_tall = ys[-1] - ys[0] + 1
+    if layout == "list":
+        plot_height = 0.35 + 0.12 * rows_tall
+    else:
+        plot_height = 0.5 + 0.42 * rows_tall
+    note_height = 0.1 * note_lines + 0.05
+    height = max(2.0, min(6.0, 0.75 + plot_height + note_height))
     fig = Figure(figsize=(width, height), dpi=dpi)
     ax = fig.add_subplot(1, 1, 1)
     with matplotlib.rc_context({"font.size": 8}):
@@ -147,15 +216,35 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
         if unknown:
             ax.scatter([m.x for m in unknown], [m.y for m in unknown], s=[m.size for m in unknown],
                        c="white", marker="X", edgecolors="black", linewidths=0.5, zorder=3)
-        ax.set_xlim(xs[0] - 0.6, xs[-1] + 0.6)
-        ax.set_ylim(ys[0] - 0.6, ys[-1] + 0.6)
+        if layout == "list":
+            for m in markers:
+                ax.annotate(m.case, (m.x, m.y), xytext=(4, 0), textcoords="offset points",
+                            fontsize=5.5, va="center", ha="left",
+                            fontweight="bold" if m.verdict == "disagree" else "normal")
+            ax.set_xlim(xs[0] - 0.25, xs[-1] + 0.9)
+            ax.set_ylim(ys[0] - 0.7, ys[-1] + 0.7)
+            ax.set_yticks([])
+            ax.spines["left"].set_visible(False)
+            ax.spines["right"].set_visible(False)
+            ax.spines["top"].set_visible(False)
+        else:
+            counterexamples = [m for m in markers if m.verdict == "disagree"]
+            for m in counterexamples[:NAMED_COUNTEREXAMPLES]:
+                ax.annotate(m.case, (m.x, m.y), xytext=(3, 3), textcoords="offset points",
+                            fontsize=5.5, fontweight="bold", zorder=4)
+            if len(counterexamples) > NAMED_COUNTEREXAMPLES:
+                note += (f"\n{len(counterexamples) - NAMED_COUNTEREXAMPLES} more disagree "
+                         "cases are not named; see the table")
+                note_lines += 1
+            ax.set_xlim(xs[0] - 0.6, xs[-1] + 0.6)
+            ax.set_ylim(ys[0] - 0.6, ys[-1] + 0.6)
+            ax.yaxis.set_major_locator(MaxNLocator(integer=True))
+            ax.set_ylabel("$k$ in Gr($k$; $n$)" if layout == "grassmannian"
+                          else "$m$ (number of subspaces)", fontsize=8)
         ax.xaxis.set_major_locator(MaxNLocator(integer=True))
-        ax.yaxis.set_major_locator(MaxNLocator(integer=True))
-        ax.set_xticks(range(xs[0], xs[-1] + 1), minor=True)
-        ax.grid(which="minor", axis="x", color="#E6E6E6", linewidth=0.5, zorder=0)
+        ax.set_xticks(range(xs[0], xs[-1] + 1))
+        ax.grid(which="major", axis="x", color="#E6E6E6", linewidth=0.5, zorder=0)
         ax.set_xlabel("$n$", fontsize=8)
-        ax.set_ylabel("$k$ in Gr($k$; $n$)" if layout == "grassmannian"
-                      else "$m$ (number of subspaces)", fontsize=8)
         ax.tick_params(labelsize=7)
         present = [v for v in VERDICT_STYLES if any(m.verdict == v for m in markers)]
         handles = [Line2D([], [], linestyle="none", marker=VERDICT_STYLES[v].marker,
@@ -163,16 +252,19 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
                           markeredgecolor="black", markeredgewidth=0.3, markersize=5,
                           label=f"{v} ({sum(m.verdict == v for m in markers)})")
                    for v in present]
-        ax.legend(handles=handles, fontsize=7, frameon=False, loc="lower center",
-                  bbox_to_anchor=(0.5, 1.0), ncol=len(handles), handletextpad=0.3,
-                  columnspacing=1.0, borderaxespad=0.2)
-        fig.tight_layout(pad=0.3)
+        # four entries do not fit one line of a column's width: two lines of two
+        ax.legend(handles=handles, fontsize=6.5, frameon=False, loc="lower center",
+                  bbox_to_anchor=(0.5, 1.0), ncol=len(handles) if len(handles) <= 3 else 2,
+                  handletextpad=0.2, columnspacing=0.8, borderaxespad=0.2)
+        fig.text(0.01, 0.01, note, fontsize=5.5, ha="left", va="bottom", color="#333333")
+        fig.tight_layout(pad=0.3, rect=(0, (0.1 * note_lines + 0.08) / height, 1, 1))
 
     block = prov.provenance(rows, command)
     lines = prov.provenance_lines(block)
     left_out = len(records) - len(markers)
     lines.append(f"layout: {layout}" + (f" ({left_out} non-Grassmannian cases left out)"
                                         if left_out else ""))
+    lines += [f"note: {line}" for line in note.splitlines()]
     title = f"ringmatch agreement map ({len(markers)} cases)"
     fig.savefig(out, format=fmt, metadata=metadata_for(fmt, "\n".join(lines), title))
     return out

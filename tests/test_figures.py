@@ -131,12 +131,12 @@ def test_consistent_is_its_own_verdict_never_agreement(rows, tmp_path):
     altered = [dict(row) for row in rows]
     agreeing = [i for i, row in enumerate(altered) if row["verdict"] == "agree"]
     altered[agreeing[0]] = dict(altered[agreeing[0]], verdict="consistent")
-    path = agreement_map(altered, tmp_path / "map.png", dpi=100)
+    path = agreement_map(altered, tmp_path / "map.png", dpi=200)
     with Image.open(path) as image:
         assert pixels_near(image, hex_rgb(VERDICT_STYLES["consistent"].colour)) > 20
     svg = agreement_map(altered, tmp_path / "map.svg").read_text()
     agree = sum(row["verdict"] == "agree" for row in altered)
-    assert f"<!-- consistent (1) -->" in svg and f"<!-- agree ({agree}) -->" in svg
+    assert "<!-- consistent (1) -->" in svg and f"<!-- agree ({agree}) -->" in svg
     assert "not proven" in stored_provenance(path)
 
 
@@ -151,7 +151,7 @@ def test_grassmannian_layout(rows):
     records = [frame_record(row) for row in rows]
     grassmannians = [r for r in records if r["kind"] == "grassmannian"]
     assert choose_layout(grassmannians, "auto") == "list"     # few cases: all named
-    many = [dict(r, case=f"{r['case']}#{i}") for i in range(12) for r in grassmannians]
+    many = [dict(r, case=f"{r['case']}#{i}") for i in range(14) for r in grassmannians]
     assert choose_layout(many, "auto") == "grassmannian"
     assert choose_layout([dict(r, case=f"{r['case']}#{i}") for i in range(12)
                           for r in records], "auto") == "steps"
