@@ -273,6 +273,7 @@ print(ideal_division.Divisors(divisors).remainder(x[0] + 3 * x[n - 1]))
 """
 
 
+@pytest.mark.slow   # builds 250-term divisors in a fresh interpreter, both ways: ~6 s each
 @pytest.mark.parametrize("pure", [False, True])
 def test_a_divisor_list_that_overflowed_the_stack(pure):
     env = dict(os.environ)
