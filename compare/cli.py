@@ -423,9 +423,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("store", help="results store of a sweep, or a .json file of check results")
     p.add_argument("--out", required=True, metavar="FILE",
                    help="output file; the format follows the suffix .png, .svg or .pdf")
-    p.add_argument("--layout", choices=["auto", "steps", "grassmannian"], default="auto",
-                   help="steps: n against the number of subspaces; grassmannian: k against n; "
-                        "auto: grassmannian when every case is one")
+    p.add_argument("--layout", choices=["auto", "list", "steps", "grassmannian"],
+                   default="auto",
+                   help="list: one column per n, every case named; steps: n against the "
+                        "number of subspaces; grassmannian: k against n; auto: list up to 40 "
+                        "cases, else grassmannian when every case is one, else steps")
     add_selection_arguments(p)
     p.set_defaults(run=cmd_figure)
 

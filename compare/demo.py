@@ -40,9 +40,13 @@ def _fresh_store(path: Path) -> Path:
     return path
 
 
-def write_table(store_path: Path, target: Path) -> Path:
-    from ringmatch.reports.tables import render
-    target.write_text(render(str(store_path), "markdown"), encoding="utf-8")
+def write_table(store_path: Path, target: Path, command: str = "ringmatch demo") -> Path:
+    """The Markdown table of one store; its provenance names the demo command and the
+    `ringmatch table` command that prints the same table again from the written store."""
+    from ringmatch.reports.tables import TableOptions, render
+    again = f"ringmatch table {store_path.parent.name}/{store_path.name} --format markdown"
+    options = TableOptions(command=f"{command} (the same table again: {again})")
+    target.write_text(render(str(store_path), "markdown", options), encoding="utf-8")
     return target
 
 
@@ -61,7 +65,7 @@ def write_counterexample(result: dict, folder: Path) -> list:
 
 def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
              confirm_max_rank: int = CONFIRM_MAX_RANK, search_max_n: int = SEARCH_MAX_N,
-             say=print) -> dict:
+             say=print, command: str = "ringmatch demo") -> dict:
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
     progress = sweep.terminal_progress()
@@ -84,7 +88,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
                             seed=0, prime=_prime(), equivariant=True, order=6, trials=1,
                             method="auto")
     confirmed = sweep.run_sweep(plan, confirm_store, workers=workers, progress=progress,
-                                command="ringmatch demo")
+                                command=command)
     if progress:
         progress.close()
     counts = confirmed.counts()
@@ -102,12 +106,12 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
                             ["whitney", CONJECTURE], seed=0, prime=_prime(), equivariant=True,
                             order=6, trials=1, method="auto")
     searched = sweep.run_sweep(plan, search_store, workers=workers, stop_at_first=True,
-                               progress=progress, command="ringmatch demo")
+                               progress=progress, command=command)
     if progress:
         progress.close()
     first = searched.first_counterexample
-    written = [write_table(confirm_store, folder / "established-table.md"),
-               write_table(search_store, folder / "conjecture-table.md")]
+    written = [write_table(confirm_store, folder / "established-table.md", command),
+               write_table(search_store, folder / "conjecture-table.md", command)]
     if first is None:
         say(f"  no counterexample with n ≤ {search_max_n} "
             f"({len(searched.results)} cases in {searched.wall:.1f} s)")
@@ -144,13 +148,27 @@ def add_arguments(parser, *, positive_int) -> None:
                                           f"{CONFIRM_MAX_RANK}")
 
 
+def demo_command(args) -> str:
+    """The command line that repeats this demo (options left at their defaults omitted;
+    the number of workers changes no result)."""
+    import shlex
+    words = ["ringmatch", "demo"]
+    if str(args.out) != DEFAULT_FOLDER:
+        words += ["--out", str(args.out)]
+    if args.confirm_max_n != CONFIRM_MAX_N:
+        words += ["--confirm-max-n", str(args.confirm_max_n)]
+    if args.confirm_max_rank != CONFIRM_MAX_RANK:
+        words += ["--confirm-max-rank", str(args.confirm_max_rank)]
+    return shlex.join(words)
+
+
 def command(args) -> int:
     from ringmatch.errors import UsageError
     if args.confirm_max_n < 2:
         raise UsageError(f"--confirm-max-n {args.confirm_max_n}: must be at least 2")
     try:
         run_demo(args.out, workers=args.workers, confirm_max_n=args.confirm_max_n,
-                 confirm_max_rank=args.confirm_max_rank)
+                 confirm_max_rank=args.confirm_max_rank, command=demo_command(args))
     except OSError as error:
         raise UsageError(f"--out {args.out}: {error.strerror or error}") from None
     return 0

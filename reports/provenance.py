@@ -4,6 +4,7 @@ runs it shows."""
 from __future__ import annotations
 
 import platform
+import re
 from importlib import metadata
 from typing import List, Optional, Sequence
 
@@ -40,12 +41,40 @@ def provenance(rows: Sequence[dict], command: Optional[str]) -> dict:
             "cases": len(rows)}
 
 
+# An absolute path: after a start, a space, a quote, `=` or `,` (inside comma-separated
+# lists such as --presentations), up to the next space, quote or comma.
+_ABSOLUTE_PATH = re.compile(r"""(?<![^\s'"=,])(?:/|~/|[A-Za-z]:[\\/])[^\s'",]*""")
+
+
+# The same inside shell quotes (shlex.join quotes paths with spaces).
+_QUOTED_ABSOLUTE_PATH = re.compile(r"""(['"])((?:/|~/|[A-Za-z]:[\\/])[^'"]*)\1""")
+
+
+def without_local_paths(text: Optional[str]) -> Optional[str]:
+    """`text` with every absolute path replaced by its last component: provenance is shared
+    with readers of a paper, and a home directory tells them nothing but the author's login.
+    Relative paths stay; they are how a command is repeated from the project folder."""
+    if text is None:
+        return None
+
+    def name(match) -> str:
+        path = match.group(0).rstrip("/\\")
+        return re.split(r"[/\\]", path)[-1] or path
+
+    def quoted(match) -> str:
+        inner = match.group(2).rstrip("/\\")
+        return match.group(1) + (re.split(r"[/\\]", inner)[-1] or inner) + match.group(1)
+
+    return _ABSOLUTE_PATH.sub(name, _QUOTED_ABSOLUTE_PATH.sub(quoted, text))
+
+
 def provenance_lines(block: dict) -> List[str]:
-    """The block as plain lines (no comment markers), the same for every output format."""
+    """The block as plain lines (no comment markers), the same for every output format;
+    absolute local paths are cut to their last component."""
     def versions_text(versions: dict) -> str:
         return ", ".join(f"{k} {v}" for k, v in versions.items())
 
-    lines = [f"produced by: {block['command'] or '(command not recorded)'}",
+    lines = [f"produced by: {without_local_paths(block['command']) or '(command not recorded)'}",
              f"rendered with: {versions_text(block['rendered_with'])}"]
     for versions in block["computed_with"]:
         lines.append(f"computed with: {versions_text(versions)}")
@@ -53,5 +82,5 @@ def provenance_lines(block: dict) -> List[str]:
     seeds = "; ".join(f"{case} {','.join(map(str, s))}" for case, s in block["seeds"])
     lines.append(f"seeds ({block['cases']} cases): " + (seeds or "–"))
     for run in block["run_commands"]:
-        lines.append(f"run: {run}")
+        lines.append(f"run: {without_local_paths(run)}")
     return lines

@@ -128,6 +128,8 @@ class Table:
 def build_table(source: Source, options: TableOptions = TableOptions()) -> Table:
     rows = select_rows(load_rows(source), sweep=options.sweep,
                        presentations=options.presentations, equivariant=options.equivariant)
+    if not rows and (options.presentations or options.equivariant is not None):
+        raise TableError("no rows match the selection (--presentations, --equivariant/--plain)")
     for key in options.columns:
         if key not in COLUMNS:
             raise TableError(f"unknown column {key!r}; choose from {', '.join(COLUMNS)}")

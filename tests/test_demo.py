@@ -82,4 +82,9 @@ def test_demo_writes_the_report_and_tables_and_says_what_it_found(tmp_path):
     first = cases.index("Gr(4;5)")
     assert rows[first]["verdict"] == "disagree"
     assert all(r["verdict"] == "agree" for r in rows[:first])
-    assert "Gr(4;5)" in (tmp_path / "out" / "conjecture-table.md").read_text()
+    table = (tmp_path / "out" / "conjecture-table.md").read_text()
+    assert "Gr(4;5)" in table
+    # the table's provenance names the demo command, without the absolute local folder
+    assert "produced by: ringmatch demo --out out --confirm-max-n 3 (the same table again: " \
+        "ringmatch table out/conjecture.db --format markdown)" in table
+    assert str(tmp_path) not in table

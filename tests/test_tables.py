@@ -321,6 +321,58 @@ def test_through_a_real_store(rows, tmp_path):
     assert "produced by: ringmatch figure runs.db" in stored_provenance(figure)
 
 
+def store_of(rows, path):
+    """A results store holding `rows`; each row's own seed makes it a sweep of its own."""
+    from ringmatch.compare import store
+    conn = store.open_store(path)
+    for row in rows:
+        result = row["result"]
+        settings = store.sweep_settings(
+            list(result["presentations"]), equivariant=result["equivariant"],
+            seed=result["certificate"]["seed"], prime=result["certificate"]["prime"],
+            order=result["certificate"]["order"], trials=len(result["certificate"]["trials"]),
+            method=result["certificate"]["method"])
+        store.save_result(conn, settings, result, row["seconds"])
+    conn.close()
+    return path
+
+
+def test_table_selects_one_sweep_of_several(rows, tmp_path):
+    path = store_of(rows, tmp_path / "runs.db")
+    mixed = run_cli("table", path, "--format", "csv", "--columns", "case,sweep,equivariant")
+    assert mixed.returncode == 0, mixed.stderr
+    assert "3 sweeps are shown together" in mixed.stderr and "--sweep KEY" in mixed.stderr
+    keys = {line.split(",")[1] for line in mixed.stdout.splitlines()[1:] if "," in line
+            and not line.startswith("#")}
+    assert len(keys) == 3 and all(len(key) == 8 for key in keys)
+    one = sorted(keys)[0]
+    chosen = run_cli("table", path, "--format", "csv", "--columns", "case", "--sweep", one)
+    assert chosen.returncode == 0 and "sweeps are shown" not in chosen.stderr
+    assert len([line for line in chosen.stdout.splitlines()[1:]
+                if not line.startswith("#")]) == 1
+    assert f"--sweep {one}" in chosen.stdout            # the provenance repeats the selection
+    pair = run_cli("table", path, "--format", "csv", "--columns", "case",
+                   "--presentations", "whitney-sign-error,whitney")
+    assert [line for line in pair.stdout.splitlines() if not line.startswith("#")] == \
+        ["case", "Fl(3)"]
+    plain = run_cli("table", path, "--plain")
+    assert plain.returncode == 2 and "no rows match" in plain.stderr
+    unknown = run_cli("table", path, "--sweep", "ffffffff")
+    assert unknown.returncode == 2 and "no sweep 'ffffffff'" in unknown.stderr
+
+
+def test_provenance_has_no_absolute_local_paths(rows):
+    moved = [dict(row, run={"command": "ringmatch sweep --presentations "
+                                       "whitney,/home/someone/guesses/mine.toml --store "
+                                       "'/home/someone/my runs/runs.db'", "versions": {}})
+             for row in rows]
+    text = render(moved, "markdown",
+                  TableOptions(command="ringmatch table /home/someone/runs.db"))
+    assert "/home" not in text and "someone" not in text
+    assert "run: ringmatch sweep --presentations whitney,mine.toml --store 'runs.db'" in text
+    assert "produced by: ringmatch table runs.db" in text
+
+
 def test_sqlite_file_that_is_not_a_store(tmp_path):
     import sqlite3
     pytest.importorskip("ringmatch.compare.store", reason="ringmatch.compare.store is not in this tree yet")
