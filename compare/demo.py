@@ -93,7 +93,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
         progress.close()
     counts = confirmed.counts()
     say(f"  {len(plan.flags)} flag types in {confirmed.wall:.1f} s: "
-        + ", ".join(f"{counts[v]} {v}" for v in ("agree", "disagree", "inconclusive")
+        + ", ".join(f"{counts[v]} {v}" for v in sweep_text.VERDICTS
                     if v in counts))
     if counts.get("agree") != len(plan.flags):
         say("  not every case agrees; see the table below")

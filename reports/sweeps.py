@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Dict, List, Optional, Sequence, Tuple
 
+from .frames import VERDICTS
 from .summary import witness_text
 
 if TYPE_CHECKING:
@@ -56,8 +57,7 @@ def summary_text(outcome: SweepOutcome, *, store_path, cluster: Optional[str] = 
     if outcome.results:
         lines += [sweep_table(outcome), ""]
     counts = outcome.counts()
-    lines.append("counts: " + (", ".join(f"{v} {counts[v]}" for v in
-                                          ("agree", "disagree", "inconclusive") if v in counts)
+    lines.append("counts: " + (", ".join(f"{v} {counts[v]}" for v in VERDICTS if v in counts)
                                or "no cases"))
     if plan.skipped:
         lines.append(f"skipped {len(plan.skipped)} case(s) a presentation has nothing for: "

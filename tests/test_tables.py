@@ -154,6 +154,16 @@ def test_latex_short_and_long_forms(rows):
     assert long.rstrip().splitlines()[-1].startswith("% ")   # the block is under the table
 
 
+def test_consistent_is_its_own_word_and_not_counted_as_agreement(rows):
+    changed = [dict(rows[0], verdict="consistent")] + rows[1:]
+    text = latex_table(build_table(changed))
+    caption = text.split(r"\caption{", 1)[1].split("}\n", 1)[0]
+    assert "3 cases: 1 consistent, 1 disagree, 1 inconclusive." in caption
+    assert r"\emph{consistent}: every relation vanishes at every Bethe point" in caption
+    assert r"$\mathbb{P}^{2}$ & 3 & (a) & consistent" in text
+    assert "1 consistent" in markdown_table(build_table(changed)).splitlines()[0]
+
+
 def test_relations_of_small_cases_in_display_math(rows):
     text = latex_table(build_table(rows, TableOptions(relations=True)), TableOptions(relations=True))
     assert r"\paragraph{P2, whitney}" in text and r"\paragraph{Fl(3), whitney-sign-error}" in text
