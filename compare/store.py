@@ -84,15 +84,11 @@ def presentation_record(name: str) -> dict:
     """A presentation as the settings know it: built-in/plug-in names as such; files (paths
     and shipped file names) with the SHA-256 of their content, so an edited file never
     resumes from results of its earlier version."""
-    from ringmatch.presentations import FAMILIES, userfile
-    path = None
-    if userfile.looks_like_path(name):
-        path = Path(name)
-    elif name not in FAMILIES and name in userfile.shipped_files():
-        path = userfile.shipped_files()[name]
-    if path is None:
+    from ringmatch.presentations import presentation_file
+    file = presentation_file(name)
+    if file is None:
         return {"name": name}
-    digest = hashlib.sha256(path.read_bytes()).hexdigest()
+    digest = hashlib.sha256(Path(file).read_bytes()).hexdigest()
     return {"name": name, "sha256": digest}
 
 

@@ -119,18 +119,15 @@ class Source:
 
 def load_sources(names: Sequence[str], values: Optional[Dict[str, int]] = None) -> List[Source]:
     """`values`: the --set values; each file keeps those it declares (defaults for the rest)."""
-    from ringmatch.presentations import FAMILIES, userfile
+    from ringmatch.presentations import presentation_file, userfile
     from ringmatch.presentations.userfile_container import read_bytes
     sources = []
     for name in names:
-        path = None
-        if userfile.looks_like_path(name):
-            path = Path(name)
-        elif name not in FAMILIES:
-            path = userfile.shipped_files().get(name)
-        if path is None:
+        file = presentation_file(name)
+        if file is None:
             sources.append(Source(name))
             continue
+        path = Path(file)
         try:
             raw = path.read_bytes()
         except OSError as error:

@@ -89,13 +89,9 @@ def _spec_cached(label: str, real_path: str, mtime: int, size: int) -> FileSpec:
 
 def spec_of(name: str) -> Optional[FileSpec]:
     """The FileSpec behind a presentation name (a path or a shipped file), None otherwise."""
-    from . import FAMILIES
-    if looks_like_path(name):
-        return load_spec(name)
-    if name in FAMILIES:
-        return None
-    path = shipped_files().get(name)
-    return None if path is None else load_spec(str(path))
+    from . import presentation_file
+    file = presentation_file(name)
+    return None if file is None else load_spec(file)
 
 
 def load_family(path: str, values: Values = None) -> Family:
