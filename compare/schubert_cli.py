@@ -19,8 +19,13 @@ from . import schubert as engine
 
 
 def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_negative_int) -> None:
-    p.add_argument("case", type=flag_argument, help="e.g. 'Gr(2,5)', P3, or a partial flag "
-                                                   "with a basis file")
+    p.add_argument("case", type=flag_argument, nargs="?",
+                   help="e.g. 'Gr(2,5)', P3, or a partial flag with a basis file")
+    p.add_argument("--up-to", type=non_negative_int, metavar="N",
+                   help="instead of one case, every Grassmannian Gr(k;n) with n <= N, smallest "
+                        "first: one line (or JSON object) per case")
+    p.add_argument("--stop-at-first", action="store_true",
+                   help="with --up-to: stop at the first case where a check fails")
     p.add_argument("--presentation", type=presentation_list, default=["whitney"],
                    metavar="NAME[,NAME…]",
                    help="presentation(s) to compute in; with two or more, their tables are "
@@ -87,6 +92,10 @@ def _run(args) -> int:
         raise engine.SchubertError("--json and --latex exclude each other")
     if args.prime < 2**40:
         raise engine.SchubertError(f"--prime {args.prime}: needs a prime of at least 2^40")
+    if (args.case is None) == (args.up_to is None):
+        raise engine.SchubertError("give one case or --up-to N (not both)")
+    if args.up_to is not None:
+        return _sweep(args, report)
     flag = args.case
     options = dict(seed=args.seed, prime=args.prime, degree_bound=args.q_degree)
     if args.basis == "all":
@@ -146,3 +155,50 @@ def _all_candidates(args, flag, options, report) -> int:
     else:
         print(report.candidates_text(flag.name, outcomes))
     return 0 if any(not failed for failed in outcomes.values()) else 1
+
+
+def _sweep(args, report) -> int:
+    """Every Gr(k;n), n ≤ N, in each presentation with the chosen basis; tables compared when
+    there are several presentations."""
+    from ringmatch.presentations.flagtype import FlagType
+    if args.latex or args.basis == "all":
+        raise engine.SchubertError("--up-to prints a summary: use it without --latex and "
+                                   "--basis all")
+    seed = args.seed
+    records, failed = [], False
+    for n in range(2, args.up_to + 1):
+        for k in range(1, n):
+            flag = FlagType((k,), n)
+            results = []
+            for name in args.presentation:
+                basis = _basis_for(args, flag, name)
+                options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree)
+                family = get_family(name)
+                result = engine.choose_candidate(flag, family, **options) if basis == "auto" \
+                    else engine.structure_constants(flag, family, basis, **options)
+                seed = result.certificate["seed"] if seed is None else seed
+                results.append(result)
+            differences = [engine.first_difference(results[0], other) for other in results[1:]]
+            ok = all(r.passed for r in results) and all(d is None for d in differences)
+            failed = failed or not ok
+            records.append((flag, results, differences, ok))
+            if args.json:
+                print(json.dumps({"case": flag.name, "passed": ok,
+                                  "runs": [{"presentation": r.presentation,
+                                            "basis": r.basis.name,
+                                            "checks": {c["name"]: c["passed"] for c in r.checks}}
+                                           for r in results],
+                                  "same_table": all(d is None for d in differences)}))
+            else:
+                line = f"{flag.name:<10} " + "; ".join(
+                    f"{r.presentation}/{r.basis.name}: " + (
+                        "all checks pass" if r.passed else "fails " + ", ".join(
+                            c["name"] for c in r.checks if not c["passed"]))
+                    for r in results)
+                if differences:
+                    line += "; tables " + ("agree" if all(d is None for d in differences)
+                                           else "DIFFER")
+                print(line, flush=True)
+            if failed and args.stop_at_first:
+                return 1
+    return 1 if failed else 0

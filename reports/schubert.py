@@ -128,8 +128,10 @@ def as_text(result, *, table: bool = True) -> str:
 def as_latex(result) -> str:
     """An appendix fragment: the checks as a list, the products in an align* environment."""
     cert = result.certificate
-    lines = [f"% ringmatch schubert {result.case} --presentation {result.presentation} "
-             f"--basis {result.basis.name} --seed {cert['seed']} --prime {cert['prime']}",
+    basis = result.basis.name if result.basis.candidate is not None and \
+        result.basis.name.startswith("groth:") else result.basis.source
+    lines = [f"% ringmatch schubert '{result.case}' --presentation {result.presentation} "
+             f"--basis {basis} --seed {cert['seed']} --prime {cert['prime']}",
              f"\\paragraph{{Quantum $K$ products in ${_latex_case(result.case)}$.}}",
              f"Basis \\texttt{{{_latex_escape(result.basis.name)}}} in the presentation "
              f"\\texttt{{{_latex_escape(result.presentation)}}}.",

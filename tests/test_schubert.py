@@ -273,3 +273,15 @@ def test_basis_inside_a_presentation_file(tmp_path, capsys):
     assert main(["schubert", "P3", "--presentation", str(path), "--json"]) == 0
     payload = json.loads(capsys.readouterr().out)
     assert payload["basis"] == "p3-by-hand" and payload["checks"]["projective_space"]
+
+
+def test_cli_runs_over_small_grassmannians(capsys):
+    assert main(["schubert", "--up-to", "4", "--presentation", "whitney,vieta-eliminated",
+                 "--seed", "7"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert len(lines) == 6 and all("tables agree" in line for line in lines)
+    assert main(["schubert", "--up-to", "4", "--basis", "groth:S:x", "--stop-at-first",
+                 "--json"]) == 1
+    records = [json.loads(line) for line in capsys.readouterr().out.splitlines()]
+    assert len(records) == 1 and records[0]["case"] == "P1" and not records[0]["passed"]
+    assert main(["schubert", "P2", "--up-to", "3"]) == 2
