@@ -256,8 +256,8 @@ class Evaluation:
 
 
 def evaluate(family: Family, flag: FlagType, basis: Basis, q: Sequence[int],
-             prime: int) -> Evaluation:
-    spec = algebra.Specialisation(prime, tuple([1] * flag.n), tuple(q))
+             prime: int, weights: Optional[Sequence[int]] = None) -> Evaluation:
+    spec = algebra.Specialisation(prime, tuple(weights or [1] * flag.n), tuple(q))
     try:
         ideal = own_ideal(family, flag, spec)
     except PresentationError as error:
@@ -356,7 +356,11 @@ def _q_value(rng: random.Random, prime: int, m: int, used: set) -> Tuple[int, ..
 
 def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: Optional[int] = None,
                         prime: int = algebra.DEFAULT_PRIME,
-                        degree_bound: Optional[int] = None) -> SchubertResult:
+                        degree_bound: Optional[int] = None,
+                        equivariant: bool = False) -> SchubertResult:
+    """All N_{λμ}^ν(q) and the checks.  Equivariantly (T at random residues drawn from the
+    seed) the coefficients are residues mod p, not integers, and only the checks that make
+    sense for a specialised T run (basis, finiteness, classical ring)."""
     check_labels(flag, basis)
     if seed is None:
         seed = random.SystemRandom().randrange(2**32)
@@ -367,16 +371,21 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
     used: set = set()
     points = [_q_value(rng, prime, m, used) for _ in monomials]
     extra = _q_value(rng, prime, m, used)
+    weights = algebra.draw_specialisation(flag.n, m, seed=seed, prime=prime).T \
+        if equivariant else None
     certificate = {"prime": prime, "seed": seed, "degree_bound": bound,
+                   "weights": list(weights) if weights else None,
                    "q_values": [list(p) for p in points], "extra_q": list(extra),
-                   "method": "normal forms at random q mod p, interpolation, signed lifting",
+                   "method": "normal forms at random q mod p, interpolation, " + (
+                       "coefficients as residues mod p (T specialised)" if equivariant
+                       else "signed lifting"),
                    "exact": False}
     r = len(basis.labels)
     checks: List[dict] = []
     evaluations = []
     notes: List[str] = []
     for q in points + [extra, tuple([0] * m)]:
-        evaluation = evaluate(family, flag, basis, q, prime)
+        evaluation = evaluate(family, flag, basis, q, prime, weights)
         if not any(q) and evaluation.dimension != evaluations[0].dimension:
             # e.g. the Bethe equations at T = 1: roots collide at q = 0 and the inverted
             # Vandermonde kills the ring, so q = 0 is no point of the family.
@@ -399,7 +408,7 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
     nonzero_top = [mono for mono in top if coefficients[mono] != _zero_like(coefficients[mono])]
     predicted = _value_at(coefficients, extra, prime)
     agrees = predicted == evaluations[len(points)].constants
-    constants = _lift(coefficients, basis.labels, prime)
+    constants = _lift(coefficients, basis.labels, prime, residues=equivariant)
     first = _first_triple(coefficients, nonzero_top, basis.labels) if nonzero_top else None
     checks.append(_check(
         "finiteness", not nonzero_top and agrees,
@@ -423,6 +432,13 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
                              "QK(X) at q = 0 is K(X)"))
     else:
         at_zero = coefficients[monomials[0]]
+    if equivariant:
+        notes.append("equivariant at the recorded weights: coefficients are residues mod p; the "
+                     "Littlewood-Richardson, sum-rule and projective-space checks are "
+                     "non-equivariant statements and do not run (equivariant Schubert classes "
+                     "would be double Grothendieck polynomials, not built in)")
+        return SchubertResult(flag.name, family.name, basis, constants, checks, certificate, m,
+                              notes)
     classical = _lift({tuple([0] * m): at_zero}, basis.labels, prime)
     checks.extend(run_checks(flag, basis.labels, constants, classical,
                              polynomial=not nonzero_top and agrees))
@@ -469,7 +485,8 @@ def _value_at(coefficients, point, prime):
     return total
 
 
-def _lift(coefficients, labels, prime) -> Dict[Tuple[Label, Label, Label], Dict[QMonomial, int]]:
+def _lift(coefficients, labels, prime, residues: bool = False
+          ) -> Dict[Tuple[Label, Label, Label], Dict[QMonomial, int]]:
     r = len(labels)
     out: Dict[Tuple[Label, Label, Label], Dict[QMonomial, int]] = {}
     for mono, matrix in coefficients.items():
@@ -482,7 +499,7 @@ def _lift(coefficients, labels, prime) -> Dict[Tuple[Label, Label, Label], Dict[
                 nu, column = divmod(index, r * r)
                 lam, mu = divmod(column, r)
                 key = (labels[lam], labels[mu], labels[nu])
-                out.setdefault(key, {})[mono] = signed(value, prime)
+                out.setdefault(key, {})[mono] = value if residues else signed(value, prime)
     return {key: out[key] for key in sorted(out, key=lambda t: tuple(
         _position(labels, x) for x in t))}
 
@@ -670,9 +687,17 @@ def classical_screen(flag: FlagType, family: Family, basis: Basis, prime: int) -
 
 
 def choose_candidate(flag: FlagType, family: Family, *, seed: Optional[int], prime: int,
-                     degree_bound: Optional[int]) -> SchubertResult:
+                     degree_bound: Optional[int], equivariant: bool = False) -> SchubertResult:
     """The first built-in candidate (in the fixed order of `schubert_bases.CANDIDATES`) that
-    passes every check; when none does, the result of the first one, saying so."""
+    passes every check; when none does, the result of the first one, saying so.  The choice
+    is made non-equivariantly (where the checks live), then repeated equivariantly if asked."""
+    if equivariant:
+        chosen = choose_candidate(flag, family, seed=seed, prime=prime,
+                                  degree_bound=degree_bound)
+        result = structure_constants(flag, family, chosen.basis, seed=chosen.certificate["seed"],
+                                     prime=prime, degree_bound=degree_bound, equivariant=True)
+        result.notes[:0] = chosen.notes
+        return result
     rejected, first = [], None
     for candidate in sb.CANDIDATES:
         basis = candidate_basis(flag, candidate)

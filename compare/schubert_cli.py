@@ -43,6 +43,9 @@ def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_ne
                    help="stated bound on the q-degree of the constants (default min(k, n-k) "
                         "for Gr(k;n), n-1 otherwise); the interpolation must stabilise below "
                         "D+1")
+    p.add_argument("--equivariant", action="store_true",
+                   help="T at random residues (recorded): coefficients mod p, and only the "
+                        "basis, finiteness and classical-ring checks")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--latex", action="store_true", help="a LaTeX fragment for an appendix")
     p.add_argument("--checks-only", action="store_true",
@@ -97,7 +100,8 @@ def _run(args) -> int:
     if args.up_to is not None:
         return _sweep(args, report)
     flag = args.case
-    options = dict(seed=args.seed, prime=args.prime, degree_bound=args.q_degree)
+    options = dict(seed=args.seed, prime=args.prime, degree_bound=args.q_degree,
+                   equivariant=args.equivariant)
     if args.basis == "all":
         return _all_candidates(args, flag, options, report)
     results = []
@@ -172,7 +176,8 @@ def _sweep(args, report) -> int:
             results = []
             for name in args.presentation:
                 basis = _basis_for(args, flag, name)
-                options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree)
+                options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree,
+                               equivariant=args.equivariant)
                 family = get_family(name)
                 result = engine.choose_candidate(flag, family, **options) if basis == "auto" \
                     else engine.structure_constants(flag, family, basis, **options)

@@ -285,3 +285,11 @@ def test_cli_runs_over_small_grassmannians(capsys):
     records = [json.loads(line) for line in capsys.readouterr().out.splitlines()]
     assert len(records) == 1 and records[0]["case"] == "P1" and not records[0]["passed"]
     assert main(["schubert", "P2", "--up-to", "3"]) == 2
+
+
+def test_equivariant_option_runs_the_checks_that_apply(capsys):
+    assert main(["schubert", "Gr(2,4)", "--equivariant", "--json", "--seed", "9"]) == 0
+    payload = json.loads(capsys.readouterr().out)
+    assert set(payload["checks"]) == {"basis", "finiteness", "classical_ring"}
+    assert payload["basis"] == "groth:S:1-x" and len(payload["certificate"]["weights"]) == 4
+    assert any("residues mod p" in note for note in payload["notes"])
