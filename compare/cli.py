@@ -170,6 +170,17 @@ def cmd_check(args) -> int:
 
 def cmd_presentations(args) -> int:
     from ringmatch.presentations import plugins, userfile
+    if args.check is not None:
+        if args.case_file is not None:
+            raise UsageError("--check and --case-file exclude each other")
+        from .conformance import check_family
+        _check_settings(args, [args.check])
+        result = check_family(resolve_family(args.check, args))
+        emit(args, {"presentation": result.family, "conforms": result.conforms,
+                    "cases": list(result.cases),
+                    "not_supported": [{"case": c, "reason": r} for c, r in result.skipped],
+                    "problem": result.problem}, result.text())
+        return 0 if result.conforms else 1
     if args.case_file is not None:
         _check_settings(args, [args.of])
         family = resolve_family(args.of, args)
@@ -374,7 +385,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--of", default="whitney", metavar="NAME",
                    help="presentation written by --case-file (name or file); default whitney")
     p.add_argument("--plain", action="store_true", help="with --case-file: all T_j = 1")
-    p.add_argument("--json", action="store_true", help="the list as JSON")
+    p.add_argument("--check", metavar="NAME",
+                   help="instead of the list, check that presentation NAME keeps the family "
+                        "contract on P1, Gr(2;4), Fl(3) (meanings, relations in all three "
+                        "rings, units, colength, relations at the Bethe points); exit status 1 "
+                        "with the first problem")
+    p.add_argument("--json", action="store_true", help="the list (or the --check result) as JSON")
     parameters.add_argument(p)
     p.set_defaults(run=cmd_presentations)
 
