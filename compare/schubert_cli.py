@@ -7,7 +7,6 @@ usage error.
 from __future__ import annotations
 
 import json
-from typing import List
 
 from ringmatch.errors import InputError
 from ringmatch.presentations import get_family
