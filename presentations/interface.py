@@ -11,7 +11,8 @@ A family is a plain record of functions (no class hierarchy):
 * `solved_by_points`            → True for the Bethe equations themselves: the lifted Bethe
                                   points are their solutions, and the ring they present is by
                                   definition the ring of functions on those points
-                                  (docs/mathematics.md §2.3), the reference every other family is measured against.
+                                  (docs/mathematics.md §2.3), the reference every other
+                                  family is measured against.
 
 `ring` is a `compare.algebra.Ring`: builders read generators from `ring.gen[name]` and the
 parameters from `ring.T[j-1]`, `ring.q[i-1]`, so one builder serves the symbolic, the
