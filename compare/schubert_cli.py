@@ -7,6 +7,8 @@ usage error.
 from __future__ import annotations
 
 import json
+import os
+import re
 
 from ringmatch.errors import InputError
 from ringmatch.presentations import get_family
@@ -47,6 +49,10 @@ def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_ne
                         "basis, finiteness and classical-ring checks")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--latex", action="store_true", help="a LaTeX fragment for an appendix")
+    p.add_argument("--out", metavar="DIR",
+                   help="also write each case's result as DIR/<case>.json and a LaTeX fragment "
+                        "DIR/<case>.tex; with --up-to, cases already there under the same "
+                        "settings are read back, so an interrupted run resumes")
     p.add_argument("--checks-only", action="store_true",
                    help="text: leave out the multiplication table")
 
@@ -96,34 +102,18 @@ def _run(args) -> int:
         raise engine.SchubertError(f"--prime {args.prime}: needs a prime of at least 2^40")
     if (args.case is None) == (args.up_to is None):
         raise engine.SchubertError("give one case or --up-to N (not both)")
+    if args.out is not None:
+        _usable_folder(args.out)
     if args.up_to is not None:
         return _sweep(args, report)
     flag = args.case
-    options = dict(seed=args.seed, prime=args.prime, degree_bound=args.q_degree,
-                   equivariant=args.equivariant)
     if args.basis == "all":
+        options = dict(seed=args.seed, prime=args.prime, degree_bound=args.q_degree,
+                       equivariant=args.equivariant)
         return _all_candidates(args, flag, options, report)
-    results = []
-    for name in args.presentation:
-        family = get_family(name)
-        basis = _basis_for(args, flag, name)
-        if basis == "auto":
-            result = engine.choose_candidate(flag, family, **options)
-        else:
-            result = engine.structure_constants(flag, family, basis, **options)
-        if options["seed"] is None:     # every presentation at the same q values
-            options["seed"] = result.certificate["seed"]
-        results.append(result)
-    comparisons = []
-    for other in results[1:]:
-        difference = engine.first_difference(results[0], other)
-        comparisons.append((results[0], other, difference))
+    results, comparisons = _case(args, flag, args.seed)
+    payload = _payload(report, results, comparisons)
     if args.json:
-        payload = report.as_json(results[0]) if len(results) == 1 else {
-            "runs": [report.as_json(r) for r in results],
-            "comparisons": [{"first": a.presentation, "second": b.presentation,
-                             "same_table": d is None, "difference": d}
-                            for a, b, d in comparisons]}
         print(json.dumps(payload, indent=2))
     elif args.latex:
         print("\n\n".join(report.as_latex(r) for r in results))
@@ -131,8 +121,86 @@ def _run(args) -> int:
         texts = [report.as_text(r, table=not args.checks_only) for r in results]
         texts += [report.comparison_text(a, b, d) for a, b, d in comparisons]
         print("\n\n".join(texts))
-    ok = all(r.passed for r in results) and all(d is None for _, _, d in comparisons)
+    ok = _passed(results, comparisons)
+    if args.out is not None:
+        _write(args, flag, report, results, payload, ok)
     return 0 if ok else 1
+
+
+def _case(args, flag, seed):
+    """Every presentation at the same q values; the tables of the later ones compared with
+    the first's."""
+    results = []
+    for name in args.presentation:
+        family = get_family(name)
+        basis = _basis_for(args, flag, name)
+        options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree,
+                       equivariant=args.equivariant)
+        result = engine.choose_candidate(flag, family, **options) if basis == "auto" \
+            else engine.structure_constants(flag, family, basis, **options)
+        seed = result.certificate["seed"] if seed is None else seed
+        results.append(result)
+    comparisons = [(results[0], other, engine.first_difference(results[0], other))
+                   for other in results[1:]]
+    return results, comparisons
+
+
+def _passed(results, comparisons) -> bool:
+    return all(r.passed for r in results) and all(d is None for _, _, d in comparisons)
+
+
+def _payload(report, results, comparisons) -> dict:
+    if len(results) == 1:
+        return report.as_json(results[0])
+    return {"runs": [report.as_json(r) for r in results],
+            "comparisons": [{"first": a.presentation, "second": b.presentation,
+                             "same_table": d is None, "difference": d}
+                            for a, b, d in comparisons]}
+
+
+# ---------------------------------------------------------------------------------------
+# --out: one JSON and one LaTeX file per case, reused when the settings match
+
+def _usable_folder(folder: str) -> None:
+    path = os.path.abspath(folder)
+    while not os.path.exists(path):
+        path = os.path.dirname(path)
+    if not os.path.isdir(path) or not os.access(path, os.W_OK):
+        raise engine.SchubertError(f"--out {folder!r}: {path} is not a writable folder")
+
+
+def _settings(args) -> dict:
+    return {"presentations": list(args.presentation), "basis": args.basis, "seed": args.seed,
+            "prime": args.prime, "q_degree": args.q_degree, "equivariant": args.equivariant}
+
+
+def _stem(args, flag) -> str:
+    return os.path.join(args.out, re.sub(r"[^A-Za-z0-9]+", "_", flag.name).strip("_"))
+
+
+def _stored(args, flag):
+    """The stored summary of this case under the same settings, or None."""
+    try:
+        with open(_stem(args, flag) + ".json", encoding="utf-8") as handle:
+            stored = json.load(handle)
+    except (OSError, ValueError):
+        return None
+    if not isinstance(stored, dict) or stored.get("settings") != _settings(args):
+        return None
+    return stored
+
+
+def _write(args, flag, report, results, payload, ok) -> None:
+    os.makedirs(args.out, exist_ok=True)
+    stem = _stem(args, flag)
+    record = {"settings": _settings(args), "case": flag.name, "passed": ok, "result": payload}
+    # Written to a temporary name first, so that an interrupted run leaves no half file that
+    # a resumed run would trust.
+    for suffix, text in ((".tex", "\n\n".join(report.as_latex(r) for r in results) + "\n"),
+                         (".json", json.dumps(record, indent=2) + "\n")):
+        with open(stem + suffix + ".part", "w", encoding="utf-8") as handle:
+            handle.write(text)
+        os.replace(stem + suffix + ".part", stem + suffix)
 
 
 def _all_candidates(args, flag, options, report) -> int:
@@ -161,39 +229,30 @@ def _all_candidates(args, flag, options, report) -> int:
 
 
 def _sweep(args, report) -> int:
-    """Every Gr(k;n), n ≤ N, in each presentation with the chosen basis; tables compared when
-    there are several presentations."""
+    """Every Gr(k;n), n ≤ N, smallest first, in each presentation with the chosen basis; with
+    --out, cases already there under the same settings are read back instead of recomputed."""
     from ringmatch.presentations.flagtype import FlagType
     if args.latex or args.basis == "all":
         raise engine.SchubertError("--up-to prints a summary: use it without --latex and "
                                    "--basis all")
-    seed = args.seed
-    records, failed = [], False
+    failed = False
     for n in range(2, args.up_to + 1):
         for k in range(1, n):
             flag = FlagType((k,), n)
-            results = []
-            for name in args.presentation:
-                basis = _basis_for(args, flag, name)
-                options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree,
-                               equivariant=args.equivariant)
-                family = get_family(name)
-                result = engine.choose_candidate(flag, family, **options) if basis == "auto" \
-                    else engine.structure_constants(flag, family, basis, **options)
-                seed = result.certificate["seed"] if seed is None else seed
-                results.append(result)
-            differences = [engine.first_difference(results[0], other) for other in results[1:]]
-            ok = all(r.passed for r in results) and all(d is None for d in differences)
-            failed = failed or not ok
-            records.append((flag, results, differences, ok))
-            if args.json:
-                print(json.dumps({"case": flag.name, "passed": ok,
-                                  "runs": [{"presentation": r.presentation,
-                                            "basis": r.basis.name,
-                                            "checks": {c["name"]: c["passed"] for c in r.checks}}
-                                           for r in results],
-                                  "same_table": all(d is None for d in differences)}))
+            stored = _stored(args, flag) if args.out is not None else None
+            if stored is not None:
+                ok, line = stored["passed"], f"{flag.name:<10} stored in {args.out}: " + (
+                    "all checks pass" if stored["passed"] else "a check fails")
+                summary = {"case": flag.name, "passed": ok, "stored": True}
             else:
+                results, comparisons = _case(args, flag, args.seed)
+                ok = _passed(results, comparisons)
+                differences = [d for _, _, d in comparisons]
+                summary = {"case": flag.name, "passed": ok,
+                           "runs": [{"presentation": r.presentation, "basis": r.basis.name,
+                                     "checks": {c["name"]: c["passed"] for c in r.checks}}
+                                    for r in results],
+                           "same_table": all(d is None for d in differences)}
                 line = f"{flag.name:<10} " + "; ".join(
                     f"{r.presentation}/{r.basis.name}: " + (
                         "all checks pass" if r.passed else "fails " + ", ".join(
@@ -202,7 +261,11 @@ def _sweep(args, report) -> int:
                 if differences:
                     line += "; tables " + ("agree" if all(d is None for d in differences)
                                            else "DIFFER")
-                print(line, flush=True)
+                if args.out is not None:
+                    _write(args, flag, report, results, _payload(report, results, comparisons),
+                           ok)
+            print(json.dumps(summary) if args.json else line, flush=True)
+            failed = failed or not ok
             if failed and args.stop_at_first:
                 return 1
     return 1 if failed else 0

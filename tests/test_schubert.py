@@ -291,3 +291,16 @@ def test_equivariant_option_runs_the_checks_that_apply(capsys):
     assert set(payload["checks"]) == {"basis", "finiteness", "classical_ring"}
     assert payload["basis"] == "groth:S:1-x" and len(payload["certificate"]["weights"]) == 4
     assert any("residues mod p" in note for note in payload["notes"])
+
+
+def test_out_folder_writes_each_case_and_resumes(tmp_path, capsys):
+    out = tmp_path / "tables"
+    assert main(["schubert", "--up-to", "3", "--seed", "11", "--out", str(out)]) == 0
+    assert sorted(p.name for p in out.iterdir()) == sorted(
+        f"{stem}.{suffix}" for stem in ("P1", "P2", "Gr_2_3") for suffix in ("json", "tex"))
+    capsys.readouterr()
+    assert main(["schubert", "--up-to", "3", "--seed", "11", "--out", str(out)]) == 0
+    assert capsys.readouterr().out.count("stored in") == 3
+    # Other settings: computed again, not read back.
+    assert main(["schubert", "--up-to", "3", "--seed", "12", "--out", str(out)]) == 0
+    assert "stored in" not in capsys.readouterr().out
