@@ -2,6 +2,7 @@
 
 Helpers, imported by name (`from conftest import ROOT, run_cli`): `ROOT`, the repository;
 `run_cli(...)`, the `ringmatch` command in a fresh interpreter, as a user runs it;
+`run_in_process(...)`, the same result from `main` in this interpreter (no start-up cost);
 `examples(n)`, the number of Hypothesis examples for a property whose full count is n.
 
 Shape of a run: tests marked `slow` are left out unless `--slow` is given (CI gives it:
@@ -16,6 +17,8 @@ never a guess; before any run the note falls back to the order of magnitude.
 """
 from __future__ import annotations
 
+import contextlib
+import io
 import os
 import subprocess
 import sys
@@ -33,6 +36,21 @@ def run_cli(*args, cwd=ROOT, env=None, timeout: float = 300) -> subprocess.Compl
     a user sees, including the one-line errors and exit statuses of `main`."""
     return subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *map(str, args)],
                           cwd=cwd, env=env, capture_output=True, text=True, timeout=timeout)
+
+
+def run_in_process(*args) -> subprocess.CompletedProcess:
+    """What `run_cli` returns, but from `main` inside this interpreter: no start-up cost of
+    a second of imports, so for the many cheap requests (bad input, small cases).  An
+    exception escaping `main` fails the test, as a traceback would have."""
+    from ringmatch.compare.cli import main
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        try:
+            status = main([str(a) for a in args])
+        except SystemExit as stop:   # --help, --version: argparse exits by itself
+            status = stop.code if isinstance(stop.code, int) else int(stop.code is not None)
+    return subprocess.CompletedProcess(["ringmatch", *map(str, args)], status, out.getvalue(),
+                                       err.getvalue())
 
 
 # The example counts written in the tests are CI's; a default run takes a fifth of each.

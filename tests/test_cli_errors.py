@@ -2,7 +2,7 @@
 
 import pytest
 
-from conftest import run_cli as run
+from conftest import run_cli, run_in_process
 
 
 @pytest.mark.parametrize("args, fragment", [
@@ -18,9 +18,16 @@ from conftest import run_cli as run
     (["no-such-command"], "no-such-command"),
 ])
 def test_one_line_error_and_exit_status_2(args, fragment):
-    result = run(*args)
+    result = run_in_process(*args)
     assert result.returncode == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1, result.stderr
     assert fragment in lines[0]
     assert "Traceback" not in result.stderr
+
+
+def test_a_separate_process_sees_the_same():
+    # what a shell sees: nothing but the one line, even from a fresh interpreter
+    result = run_cli("check", "Gr(a,b)")
+    assert result.returncode == 2 and result.stdout == ""
+    assert result.stderr.startswith("ringmatch: ") and result.stderr.count("\n") == 1

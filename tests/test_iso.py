@@ -30,7 +30,7 @@ from ringmatch.presentations.flagtype import FlagType, parse_flag
 from ringmatch.reports.isomorphism import as_json, coefficient_expression, formula_expression
 
 from broken_variants import flipped_q_sign
-from conftest import run_cli as run
+from conftest import run_cli as run, run_in_process
 
 
 def flag_types(max_n):
@@ -234,7 +234,7 @@ def test_iso_none_within_bounds_is_not_an_error():
     (["iso", "Gr(5,4)", "--from", "vieta", "--to", "whitney"], "Gr(k;n)"),
 ])
 def test_iso_bad_input_is_one_line_exit_2(args, fragment):
-    result = run(*args)
+    result = run_in_process(*args)
     assert result.returncode == 2
     assert result.stdout == ""
     lines = result.stderr.strip().splitlines()

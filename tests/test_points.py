@@ -27,7 +27,7 @@ from ringmatch.presentations.interface import Family, Generator, build_series
 from ringmatch.presentations.meanings import Meaning, lambda_Q, lambda_S
 
 from broken_variants import flipped_q_sign
-from conftest import run_cli as run
+from conftest import run_cli as run, run_in_process
 
 SMALL_PRIME = 1000003
 
@@ -373,7 +373,7 @@ def test_points_human_summary():
     (["Fl(3;3)"], "Fl(3;3)"),
 ])
 def test_points_bad_input_is_one_line_exit_2(args, fragment):
-    result = run("points", *args)
+    result = run_in_process("points", *args)
     assert result.returncode == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1, result.stderr
