@@ -61,6 +61,8 @@ class Basis:
     candidate: Optional[sb.Candidate] = None
     polynomials: Optional[Tuple[dict, ...]] = None
     source: str = ""
+    # Products at q = 0 that the basis' definition gives ({(u, v): {w: c}}), from a file.
+    classical: Optional[Dict[Tuple[Label, Label], Dict[Label, int]]] = None
 
 
 def candidate_basis(flag: FlagType, candidate: sb.Candidate) -> Basis:
@@ -396,7 +398,8 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
             break
         if evaluation.constants is None:
             checks.append(_basis_failure(flag, basis, evaluation))
-            return SchubertResult(flag.name, family.name, basis, {}, checks + _not_run(flag),
+            return SchubertResult(flag.name, family.name, basis, {},
+                                  checks + _not_run(flag, basis),
                                   certificate, m, notes)
         evaluations.append(evaluation)
     checks.append(_check("basis", True, f"{r} elements, the rank of {flag.name}, linearly "
@@ -442,6 +445,8 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
     classical = _lift({tuple([0] * m): at_zero}, basis.labels, prime)
     checks.extend(run_checks(flag, basis.labels, constants, classical,
                              polynomial=not nonzero_top and agrees))
+    if basis.classical:
+        checks.append(_given_classical(basis, classical))
     return SchubertResult(flag.name, family.name, basis, constants, checks, certificate, m,
                           notes)
 
@@ -538,8 +543,9 @@ def _basis_failure(flag: FlagType, basis: Basis, evaluation: Evaluation) -> dict
     return _check("basis", False, detail, "a basis of QK has rank-many independent elements")
 
 
-def _not_run(flag: FlagType) -> List[dict]:
-    names = ["finiteness", "classical_ring"] + _applicable(flag)
+def _not_run(flag: FlagType, basis: Basis) -> List[dict]:
+    names = ["finiteness", "classical_ring"] + _applicable(flag) + (
+        ["classical_given"] if basis.classical else [])
     return [_check(name, False, "not run: the candidates are not a basis", "") for name in names]
 
 
@@ -607,6 +613,22 @@ def _classical_lr(flag, labels, constants) -> dict:
 
 _LR_SOURCE = ("Buch, A Littlewood-Richardson rule for the K-theory of Grassmannians, Acta Math. "
               "189 (2002); products of stable Grothendieck polynomials expanded with SymPy")
+
+
+def _given_classical(basis: Basis, classical) -> dict:
+    """The basis' own classical products, where its file states them, against N(0) computed
+    in the presentation (for partial flags, where no Littlewood-Richardson rule is built in)."""
+    source = f"the classical products stated with the basis ({basis.source or basis.name})"
+    for (u, v), stated in basis.classical.items():
+        for w in basis.labels:
+            got = sum(classical.get((u, v, w), {}).values())
+            if got != stated.get(w, 0):
+                return _check("classical_given", False,
+                              f"O{sb.label_text(u)} * O{sb.label_text(v)} at q = 0: coefficient "
+                              f"of O{sb.label_text(w)} is {got}, the file states "
+                              f"{stated.get(w, 0)}", source)
+    return _check("classical_given", True, f"all {len(basis.classical)} stated classical "
+                  "products agree with N(0)", source)
 
 
 def _sum_rule(flag, labels, constants) -> dict:

@@ -91,7 +91,7 @@ def _basis_for(args, flag, presentation_name: str):
         return engine.Basis(loaded.name, basis.labels, loaded.candidate,
                             source=f"{loaded.source}: {basis.source}")
     return engine.Basis(loaded.name, loaded.labels, polynomials=loaded.polynomials,
-                        source=loaded.source)
+                        source=loaded.source, classical=loaded.classical)
 
 
 def _run(args) -> int:

@@ -42,6 +42,7 @@ class FileBasis:
     polynomials: Tuple[Polynomial, ...] = ()
     candidate: Optional[sb.Candidate] = None
     source: str = ""
+    classical: Optional[Dict[Tuple[Tuple[int, ...], Tuple[int, ...]], Dict[Tuple[int, ...], int]]] = None
 
 
 def has_schubert_table(path: str) -> bool:
@@ -68,7 +69,8 @@ def _read(path: str) -> dict:
 
 
 _KEYS = ("name", "description", "grothendieck", "case")
-_CASE_KEYS = ("case", "classes")
+_CASE_KEYS = ("case", "classes", "classical")
+_PRODUCT_KEYS = ("u", "v", "product")
 
 
 def load_basis(path: str, flag: FlagType) -> FileBasis:
@@ -92,7 +94,8 @@ def load_basis(path: str, flag: FlagType) -> FileBasis:
             raise SchubertInputError(f"{where} is not a table")
         for key in entry:
             if key not in _CASE_KEYS:
-                raise SchubertInputError(f"{where}: unknown key {key!r} (expected case, classes)")
+                raise SchubertInputError(f"{where}: unknown key {key!r} (expected "
+                                         f"{', '.join(_CASE_KEYS)})")
         try:
             entry_flag = parse_flag(str(entry.get("case", "")))
         except FlagTypeError as error:
@@ -111,7 +114,9 @@ def load_basis(path: str, flag: FlagType) -> FileBasis:
                 polys.append(parse_polynomial(text))
             except SchubertInputError as error:
                 raise SchubertInputError(f"{where}, {label_text}: {error}") from None
-        return FileBasis(name, tuple(labels), tuple(polys), source=path)
+        classical = _classical_products(entry.get("classical", []), labels, where)
+        return FileBasis(name, tuple(labels), tuple(polys), source=path,
+                         classical=classical or None)
     if "grothendieck" in table:
         spec = table["grothendieck"]
         candidate = sb.candidate_named(f"groth:{spec}") if isinstance(spec, str) else None
@@ -120,6 +125,36 @@ def load_basis(path: str, flag: FlagType) -> FileBasis:
         return FileBasis(name, candidate=candidate, source=path)
     raise SchubertInputError(f"{path}: no Schubert basis for {flag.name} (neither a "
                              "[[schubert.case]] for it nor a grothendieck family)")
+
+
+def _classical_products(entries, labels, where: str) -> dict:
+    """[[schubert.case.classical]] u = [1], v = [1], product = { "[2]" = 1, … }: the
+    products at q = 0 that the basis' definition gives (all coefficients of each listed
+    product; a label not named has coefficient 0)."""
+    if not isinstance(entries, list):
+        raise SchubertInputError(f"{where}: write stated products as [[schubert.case.classical]]")
+    out = {}
+    for number, entry in enumerate(entries, start=1):
+        here = f"{where}, classical product number {number}"
+        if not isinstance(entry, dict) or set(entry) - set(_PRODUCT_KEYS) or \
+                not isinstance(entry.get("product"), dict):
+            raise SchubertInputError(f"{here}: expected u = [..], v = [..], product = {{ label = "
+                                     "integer, … }")
+        try:
+            u, v = (tuple(int(x) for x in entry[key] if x) for key in ("u", "v"))
+        except (KeyError, TypeError, ValueError):
+            raise SchubertInputError(f"{here}: u and v must be lists of integers") from None
+        product = {}
+        for label_text, c in entry["product"].items():
+            if not isinstance(c, int) or isinstance(c, bool):
+                raise SchubertInputError(f"{here}: coefficient of {label_text} is not an integer")
+            product[sb.parse_label(label_text)] = c
+        for label in (u, v, *product):
+            if label not in labels:
+                raise SchubertInputError(f"{here}: {sb.label_text(label)} is not a label of the "
+                                         "basis")
+        out[(u, v)] = product
+    return out
 
 
 # ---------------------------------------------------------------------------------------

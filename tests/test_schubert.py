@@ -166,11 +166,11 @@ GR24 = {"[]": "1", "[1]": f"{E1} - {E2}", "[2]": f"{E1}^2 - {E2} - {E1}*{E2}",
         "[1,1]": E2, "[2,1]": f"{E1}*{E2} - {E2}^2", "[2,2]": f"{E2}^2"}
 
 
-def _basis_file(tmp_path, classes, case="Gr(2,4)", extra=""):
+def _basis_file(tmp_path, classes, case="Gr(2,4)", extra="", tail=""):
     body = "\n".join(f'"{k}" = "{v}"' for k, v in classes.items())
     path = tmp_path / "basis.toml"
     path.write_text(f'[schubert]\nname = "by-hand"\n{extra}\n[[schubert.case]]\n'
-                    f'case = "{case}"\n[schubert.case.classes]\n{body}\n')
+                    f'case = "{case}"\n[schubert.case.classes]\n{body}\n{tail}')
     return str(path)
 
 
@@ -304,3 +304,23 @@ def test_out_folder_writes_each_case_and_resumes(tmp_path, capsys):
     # Other settings: computed again, not read back.
     assert main(["schubert", "--up-to", "3", "--seed", "12", "--out", str(out)]) == 0
     assert "stored in" not in capsys.readouterr().out
+
+
+def test_classical_products_stated_with_a_basis(tmp_path, capsys):
+    # O_1·O_1 = O_2 + O_11 − O_21 and O_1·O_2 = O_21 in K(Gr(2;4)) (Buch, Acta Math. 189
+    # (2002); recalled from memory, and the classical_lr check agrees).
+    good = ('[[schubert.case.classical]]\nu = [1]\nv = [1]\n'
+            'product = { "[2]" = 1, "[1,1]" = 1, "[2,1]" = -1 }\n'
+            '[[schubert.case.classical]]\nu = [1]\nv = [2]\nproduct = { "[2,1]" = 1 }\n')
+    path = _basis_file(tmp_path, GR24, tail=good)
+    assert main(["schubert", "Gr(2,4)", "--basis", path, "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["checks"]["classical_given"] is True
+    wrong = good.replace('"[2,1]" = -1', '"[2,1]" = 0')
+    path = _basis_file(tmp_path, GR24, tail=wrong)
+    assert main(["schubert", "Gr(2,4)", "--basis", path, "--json"]) == 1
+    payload = json.loads(capsys.readouterr().out)
+    detail = next(c["detail"] for c in payload["check_details"] if c["name"] == "classical_given")
+    assert "O[2,1] is -1, the file states 0" in detail
+    bad = good.replace("u = [1]\nv = [2]", "u = [3]\nv = [2]")
+    assert main(["schubert", "Gr(2,4)", "--basis", _basis_file(tmp_path, GR24, tail=bad)]) == 2
+    assert "[3] is not a label" in capsys.readouterr().err
