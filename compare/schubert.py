@@ -15,9 +15,11 @@ O_λ ⋆ O_μ = Σ_ν N_{λμ}^ν(q) O_ν with N exact polynomials in q with int
    the *finiteness* check.  Coefficients are lifted to the symmetric range (−p/2, p/2).
 3. The checks of `run_checks`, each from an outside source (see `schubert_reference.py`).
 
-Why one prime suffices for the lifting: the true coefficients are small integers; a wrong
-lift would need a coefficient of absolute value ≥ p/2 ≈ 2^61, and the extra value and q = 0
-computation would then disagree with overwhelming probability.
+The lifting is right whenever every true coefficient lies in (−p/2, p/2), about ±2.3·10^18
+for the default prime; nothing computed mod p can detect a coefficient outside that range,
+which is one reason the certificate says `exact: false` (the other: random q values could, with
+negligible probability, hit a degenerate specialisation).  The coefficients met here are tiny
+(at most 2 in absolute value for Gr(3,6)).
 """
 from __future__ import annotations
 
