@@ -232,6 +232,10 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
             for m in counterexamples[:NAMED_COUNTEREXAMPLES]:
                 ax.annotate(m.case, (m.x, m.y), xytext=(3, 3), textcoords="offset points",
                             fontsize=5.5, fontweight="bold", zorder=4)
+            if layout == "steps":
+                note += ("\nin a cell, the cases of that n and m by dimension vector, "
+                         "left to right, top to bottom")
+                note_lines += 1
             if len(counterexamples) > NAMED_COUNTEREXAMPLES:
                 note += (f"\n{len(counterexamples) - NAMED_COUNTEREXAMPLES} more disagree "
                          "cases are not named; see the table")
