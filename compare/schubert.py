@@ -229,12 +229,15 @@ def candidate_vectors(quotient: Quotient, family: Family, flag: FlagType,
 
 
 def polynomial_vectors(quotient: Quotient, basis: Basis) -> list:
-    ring = quotient.ring
+    return quotient.vectors(_polynomials(quotient.ring, basis))
+
+
+def _polynomials(ring: algebra.Ring, basis: Basis) -> list:
     polys = []
     for label, terms in zip(basis.labels, basis.polynomials):
         total = ring.zero
         for monomial, c in terms.items():
-            term = ring.const(c % quotient.prime)
+            term = ring.const(c % ring.ctx.modulus())
             for name, power in monomial:
                 if name not in ring.gen:
                     raise SchubertError(f"basis {basis.name}, {sb.label_text(label)}: unknown "
@@ -243,7 +246,7 @@ def polynomial_vectors(quotient: Quotient, basis: Basis) -> list:
                 term = term * ring.gen[name] ** power
             total = total + term
         polys.append(total)
-    return quotient.vectors(polys)
+    return polys
 
 
 # ---------------------------------------------------------------------------------------
@@ -745,3 +748,60 @@ def choose_candidate(flag: FlagType, family: Family, *, seed: Optional[int], pri
                                     seed=seed, prime=prime, degree_bound=degree_bound)
     first.notes.insert(0, "no built-in candidate passes every check: " + "; ".join(rejected))
     return first
+
+
+# ---------------------------------------------------------------------------------------
+# The same classes? Both bases moved into the common λ-class ring
+
+def same_classes(flag: FlagType, first: Tuple[Family, Basis], second: Tuple[Family, Basis], *,
+                 seed: int, prime: int) -> Optional[dict]:
+    """Whether two bases (each in its presentation) are the same classes, label by label.
+
+    Equal tables do not make equal bases (on P^1, −O_1 multiplies like O_1), so the elements
+    themselves are compared: both presentations are moved into the common λ-class ring
+    through the meanings of their generators (compare/transport.py) at one random q; when both
+    moves are faithful and give the same ideal, each basis element becomes a vector on the
+    standard monomials there, and the vectors must coincide.  None when a presentation cannot
+    be moved (e.g. the Chern roots of `bethe` have no λ-class representative)."""
+    from . import engine, transport
+    from ringmatch.presentations.interface import Generator, build_specialised
+    if list(first[1].labels) != list(second[1].labels):
+        return {"same": False, "reason": "the bases have different labels"}
+    rng = random.Random(seed)
+    spec = algebra.Specialisation(prime, tuple([1] * flag.n),
+                                  tuple(rng.randrange(2, prime) for _ in range(flag.m)))
+    families = [first[0], second[0]]
+    common = engine.common_setup(families, flag, spec)
+    moved = []
+    for family in families:
+        own = engine.own_ideal(family, flag, spec)
+        ideal = engine.transported_ideal(family, flag, spec, common, own)
+        if ideal is None or not ideal.faithful:
+            return None
+        moved.append(ideal)
+    if not engine.same_ring(moved[0], moved[1]) or \
+            sorted(map(str, moved[0].basis)) != sorted(map(str, moved[1].basis)):
+        return {"same": False, "reason": "the presentations give different ideals in the "
+                                         "common ring"}
+    quotient = Quotient(common.ring, moved[0].basis)
+    lambda_family = Family(
+        name="common λ-class ring", description="",
+        generators=lambda f: [Generator(name, lambda_S(1, j), j) for j, name in
+                              enumerate(transport.common_generator_names(f), start=1)],
+        relations=lambda f, ring: [])
+    vectors = []
+    for family, basis in (first, second):
+        if basis.candidate is not None:
+            vectors.append(candidate_vectors(quotient, lambda_family, flag, basis))
+            continue
+        presentation = build_specialised(family, flag, spec)
+        images = transport.substitution(presentation, common.ring, spec)
+        if images is None:
+            return None
+        polys = _polynomials(presentation.ring, basis)
+        vectors.append(quotient.vectors([p.compose(*images, ctx=common.ring.ctx)
+                                         for p in polys]))
+    for label, a, b in zip(first[1].labels, *vectors):
+        if a != b:
+            return {"same": False, "label": list(label)}
+    return {"same": True}

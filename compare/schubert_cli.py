@@ -119,7 +119,8 @@ def _run(args) -> int:
         print("\n\n".join(report.as_latex(r) for r in results))
     else:
         texts = [report.as_text(r, table=not args.checks_only) for r in results]
-        texts += [report.comparison_text(a, b, d) for a, b, d in comparisons]
+        texts += [report.comparison_text(c["first"], c["second"], c["difference"],
+                                         c["classes"]) for c in comparisons]
         print("\n\n".join(texts))
     ok = _passed(results, comparisons)
     if args.out is not None:
@@ -130,7 +131,7 @@ def _run(args) -> int:
 def _case(args, flag, seed):
     """Every presentation at the same q values; the tables of the later ones compared with
     the first's."""
-    results = []
+    results, bases = [], []
     for name in args.presentation:
         family = get_family(name)
         basis = _basis_for(args, flag, name)
@@ -140,22 +141,32 @@ def _case(args, flag, seed):
             else engine.structure_constants(flag, family, basis, **options)
         seed = result.certificate["seed"] if seed is None else seed
         results.append(result)
-    comparisons = [(results[0], other, engine.first_difference(results[0], other))
-                   for other in results[1:]]
+        bases.append((family, result.basis))
+    comparisons = []
+    for other, pair in zip(results[1:], bases[1:]):
+        classes = None if args.equivariant else engine.same_classes(
+            flag, bases[0], pair, seed=seed, prime=args.prime)
+        comparisons.append({"first": results[0], "second": other,
+                            "difference": engine.first_difference(results[0], other),
+                            "classes": classes})
     return results, comparisons
 
 
 def _passed(results, comparisons) -> bool:
-    return all(r.passed for r in results) and all(d is None for _, _, d in comparisons)
+    return all(r.passed for r in results) and all(c["difference"] is None for c in comparisons)
 
 
 def _payload(report, results, comparisons) -> dict:
     if len(results) == 1:
         return report.as_json(results[0])
     return {"runs": [report.as_json(r) for r in results],
-            "comparisons": [{"first": a.presentation, "second": b.presentation,
-                             "same_table": d is None, "difference": d}
-                            for a, b, d in comparisons]}
+            "comparisons": [{"first": c["first"].presentation,
+                             "second": c["second"].presentation,
+                             "same_table": c["difference"] is None,
+                             "difference": c["difference"],
+                             "same_classes": None if c["classes"] is None
+                             else c["classes"]["same"],
+                             "classes": c["classes"]} for c in comparisons]}
 
 
 # ---------------------------------------------------------------------------------------
@@ -247,7 +258,7 @@ def _sweep(args, report) -> int:
             else:
                 results, comparisons = _case(args, flag, args.seed)
                 ok = _passed(results, comparisons)
-                differences = [d for _, _, d in comparisons]
+                differences = [c["difference"] for c in comparisons]
                 summary = {"case": flag.name, "passed": ok,
                            "runs": [{"presentation": r.presentation, "basis": r.basis.name,
                                      "checks": {c["name"]: c["passed"] for c in r.checks}}

@@ -170,17 +170,27 @@ def _latex_escape(text: str) -> str:
     return "".join(out).replace("≤", "$\\le$").replace("≥", "$\\ge$")
 
 
-def comparison_text(first, second, difference: Optional[dict]) -> str:
+def comparison_text(first, second, difference: Optional[dict],
+                    classes: Optional[dict] = None) -> str:
     head = (f"{first.case}: basis {first.basis.name} in {first.presentation} and basis "
             f"{second.basis.name} in {second.presentation}")
     if difference is None:
-        return f"{head}: the same multiplication table"
-    if "reason" in difference:
-        return f"{head}: not comparable ({difference['reason']})"
-    return (f"{head}: first difference at O{label_text(difference['u'])} * "
-            f"O{label_text(difference['v'])}, coefficient of O{label_text(difference['w'])}: "
-            f"{difference['first']} in {first.presentation}, "
-            f"{difference['second']} in {second.presentation}")
+        text = f"{head}: the same multiplication table"
+    elif "reason" in difference:
+        text = f"{head}: not comparable ({difference['reason']})"
+    else:
+        text = (f"{head}: first difference at O{label_text(difference['u'])} * "
+                f"O{label_text(difference['v'])}, coefficient of "
+                f"O{label_text(difference['w'])}: {difference['first']} in "
+                f"{first.presentation}, {difference['second']} in {second.presentation}")
+    if classes is None:
+        return text + "; the classes themselves were not compared (a presentation cannot be " \
+                      "moved into the common λ-class ring)"
+    if classes["same"]:
+        return text + "; the same classes in the common λ-class ring"
+    where = f" (first at O{label_text(classes['label'])})" if "label" in classes else \
+        f" ({classes['reason']})"
+    return text + "; but NOT the same classes in the common λ-class ring" + where
 
 
 def candidates_text(case: str, outcomes: Dict[str, List[str]]) -> str:

@@ -324,3 +324,27 @@ def test_classical_products_stated_with_a_basis(tmp_path, capsys):
     bad = good.replace("u = [1]\nv = [2]", "u = [3]\nv = [2]")
     assert main(["schubert", "Gr(2,4)", "--basis", _basis_file(tmp_path, GR24, tail=bad)]) == 2
     assert "[3] is not a label" in capsys.readouterr().err
+
+
+def test_same_classes_through_the_meanings():
+    # Equal tables need not mean equal bases: on P^1 the Q-candidate is −O_1 (see above) and
+    # multiplies exactly like O_1; moved into the common λ-class ring the elements differ.
+    P = S.algebra.DEFAULT_PRIME
+
+    def builtin(case, name, family):
+        flag = parse_flag(case)
+        return get_family(family), S.candidate_basis(flag, sb.candidate_named(name))
+
+    p1 = parse_flag("P1")
+    assert S.same_classes(p1, builtin("P1", "groth:S:1-x", "whitney"),
+                          builtin("P1", "groth:Q:1-x", "vieta"), seed=1, prime=P) == \
+        {"same": False, "label": [1]}
+    gr24 = parse_flag("Gr(2,4)")
+    hand = S.Basis("by-hand", tuple(sb.parse_label(k) for k in GR24),
+                   polynomials=tuple(schubert_files.parse_polynomial(v) for v in GR24.values()))
+    assert S.same_classes(gr24, (get_family("whitney"), hand),
+                          builtin("Gr(2,4)", "groth:S:1-x", "vieta"), seed=2, prime=P) == \
+        {"same": True}
+    # The Chern roots of the Bethe presentation have no λ-class representative.
+    assert S.same_classes(gr24, builtin("Gr(2,4)", "groth:S:1-x", "whitney"),
+                          builtin("Gr(2,4)", "groth:S:1-x", "bethe"), seed=3, prime=P) is None
