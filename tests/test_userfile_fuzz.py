@@ -239,3 +239,83 @@ def test_the_seeds_themselves_parse():
                                  coefficients='"j = 1..k_{i+1}"',
                                  expr='"lambda_y(S_i) * lambda_y(Q_i) - lambda_y(S_{i+1})"')
     assert read_and_expand(soup) == "parsed"
+
+
+# ---------------------------------------------------------------------------------------
+# Files that are small but unbounded (issue #18): each ends in one located line
+
+HOSTILE_HEAD = """\
+format = 1
+flavour = "family"
+name = "hostile"
+applies_to = "all"
+{top}
+[[generators]]
+for = "i = 1..m, j = 1..k_i"
+name = "S{{i}}_{{j}}"
+meaning = "lambda_j(S_i)"
+weight = "j"
+"""
+HOSTILE = {
+    # every product within the per-operation limits, together minutes and gigabytes
+    "total work": ("", '[[relations]]\nfor = "r = 1..40"\nexpr = "(sum(a = 1..60: sum(b = 1..30: '
+                       'S1_1^a*T_1^b + 3^900)))*(sum(a = 1..60: sum(b = 1..30: S1_1^a*T_2^b '
+                       '+ 5^900)))"\n', "too much arithmetic"),
+    "many units": ("", '[[relations]]\nexpr = "S1_1"\n' + "".join(
+        f'[[units]]\nexpr = "S1_1 + {k}"\n' for k in range(160)), "more than 32 declared units"),
+    "a loop of units": ("", '[[relations]]\nexpr = "S1_1"\n[[units]]\nfor = "a = 1..1000"\n'
+                            'expr = "S1_1 + a"\n', "more than 32 declared units"),
+    "a huge literal": ("", '[[relations]]\nexpr = "S1_1 - 10^4300"\n', "14000 bits"),
+    "a huge colength": ('expected_colength = "10^4300"', '[[relations]]\nexpr = "S1_1"\n',
+                        "expected_colength is larger than"),
+    "a huge TOML integer": ("expected_colength = 1" + "0" * 4400, '[[relations]]\nexpr = "S1_1"\n',
+                            "integer with more than 40 digits"),
+    "a huge label hole": ("", '[[relations]]\nlabel = "x{10^4300}"\nexpr = "S1_1"\n',
+                          "a hole {…} evaluates to a number larger than"),
+}
+
+
+def test_small_unbounded_files_end_in_one_located_line():
+    for what, (top, body, message) in HOSTILE.items():
+        text = HOSTILE_HEAD.format(top=top) + body
+        with dynamic_code_forbidden():
+            try:
+                family = family_from_text(text, LABEL)
+                build_specialised(family, SMALL_CASES[2], SPECS[SMALL_CASES[2]])
+            except PresentationFileError as error:
+                check_clean_error(error)
+                assert message in str(error), (what, str(error))
+                assert error.line is not None, what
+                continue
+        raise AssertionError(f"{what}: no error")
+
+
+def test_many_identical_strings_parse_in_linear_time():
+    """60 000 identical strings (under the size cap) used to take minutes; the string
+    lookup is now constant time, so this ends in the relation limit within seconds."""
+    strings = ",".join(['"1"'] * 60_000)
+    text = HOSTILE_HEAD.format(top=f"relations = [{strings}]")
+    assert len(text.encode()) < 256 * 1024
+    try:
+        family_from_text(text, LABEL).relations(SMALL_CASES[2], None)
+    except PresentationFileError as error:
+        check_clean_error(error)
+        assert "more than 5000 relations" in str(error)
+    else:
+        raise AssertionError("no error")
+
+
+def test_huge_integers_on_the_command_line_are_one_line(tmp_path):
+    import subprocess
+    import sys
+    path = tmp_path / "huge.toml"
+    path.write_text(HOSTILE_HEAD.format(top="") + '[[relations]]\nlabel = "x{10^4300}"\n'
+                    'expr = "S1_1"\n')
+    for args in (["relations", "Gr(2,4)", "--presentation", str(path)],
+                 ["check", "Gr(2,4)", "--presentations", f"whitney,{path}"],
+                 ["presentations", "--case-file", "Gr(2,4)", "--of", str(path)]):
+        result = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
+                                capture_output=True, text=True, timeout=120)
+        assert result.returncode == 2, (args, result.stderr)
+        assert result.stderr.count("\n") == 1 and f"{path}:" in result.stderr, result.stderr
+        assert "Traceback" not in result.stderr
