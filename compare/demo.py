@@ -9,7 +9,9 @@ partial flag variety (presentations/files/demo/kestrel-conjecture.toml).  The de
    first counterexample;
 3. writes, into the output folder, the discrepancy report of that counterexample, a table
    of each sweep, and both results stores (so `ringmatch table` can read them again);
-4. prints what it found.
+4. scans the group's next conjecture, which has an unknown exponent, over the cases of step 1
+   and shows the one value that survives (compare/demo_scan.py);
+5. prints what it found.
 """
 from __future__ import annotations
 
@@ -89,6 +91,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
                             method="auto")
     confirmed = sweep.run_sweep(plan, confirm_store, workers=workers, progress=progress,
                                 command=command)
+    plan_flags_confirmed = list(plan.flags)
     if progress:
         progress.close()
     counts = confirmed.counts()
@@ -125,9 +128,12 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
             say("    " + line)
         written = write_counterexample(searched.results[first], folder) + written
     written += [confirm_store, search_store]
+    from .demo_scan import run_scene
+    scanned = run_scene(folder, plan_flags_confirmed, workers=workers, say=say, command=command)
+    written += scanned["written"]
     say(f"\nWritten to {folder}{os.sep}: " + ", ".join(p.name for p in written))
     return {"confirmed": confirmed, "searched": searched, "first_counterexample": first,
-            "written": written}
+            "scanned": scanned["scan"], "written": written}
 
 
 def _prime() -> int:

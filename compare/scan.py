@@ -208,7 +208,9 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
         if not userfile.accepts(spec, key):
             raise UsageError(f"--set {key}={fixed[key]}: {spec.name} has no such parameter "
                              f"(it declares {', '.join(userfile.declared_names(spec))})")
-    userfile.bind_values(spec, {**fixed, **{p.name: p.values[0] for p in spec.parameters}})
+    # Any one grid point, so that parameters without a default can be read at all.
+    probe_values = {**{p.name: p.values[0] for p in spec.parameters}, **fixed}
+    userfile.bind_values(spec, probe_values)
     axes = grid_axes(spec, fixed, vary)
     size = grid_size(axes)
     # Estimated before anything is built or written: the product can be astronomically large.
@@ -216,7 +218,7 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
         raise UsageError(f"the scan has {size} grid point(s) × {len(flags)} case(s) = "
                          f"{size * len(flags)} checks, more than the limit {max_grid}; narrow "
                          "it with --vary/--set or fewer cases, or raise --max-grid")
-    reference_source, file_source = load_sources([reference, name], fixed)
+    reference_source, file_source = load_sources([reference, name], probe_values)
     points = grid_points(axes)
     plan = ScanPlan(name, reference_source, file_source.raw, spec, fixed, axes, points, [], [],
                     {"seed": int(seed), "prime": int(prime or algebra.DEFAULT_PRIME),

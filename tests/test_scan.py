@@ -172,3 +172,15 @@ def test_files_without_parameters_and_huge_grids_are_refused(tmp_path):
     result = run_cli("scan", "coulomb-levels", "--max-n", "8", "--store", str(store))
     assert result.returncode == 2 and "grid point(s)" in result.stderr
     assert not store.exists()
+
+
+def test_the_demo_scene_finds_the_one_exponent(tmp_path):
+    """Demo step 3: the exponent of det Q_i in kestrel-exponent; only 1 (q-Whitney) survives."""
+    from ringmatch.compare import demo_scan, sweep
+    flags = [f for f in sweep.enumerate_cases("partial", 4)]
+    lines = []
+    scene = demo_scan.run_scene(tmp_path, flags, workers=2, say=lines.append)
+    assert scene["scan"]["agreeing_everywhere"] == [{"exponent": 1}]
+    assert sorted(d["values"]["exponent"] for d in scene["scan"]["dropped"]) == [0, 2, 3]
+    assert any("exponent = 1 agrees on all" in line for line in lines)
+    assert (tmp_path / "exponent-scan.md").read_text().startswith("**P1:")
