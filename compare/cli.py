@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import re
 import sys
 from typing import List, Optional
 
@@ -42,7 +43,8 @@ def flag_argument(text: str) -> FlagType:
 
 
 def presentation_list(text: str) -> List[str]:
-    names = [t.strip() for t in text.split(",")]
+    # Commas inside brackets belong to a name with parameter values: file[a=1,b=2].
+    names = [t.strip() for t in re.split(r",(?![^\[]*\])", text)]
     if not all(names):
         raise argparse.ArgumentTypeError(f"{text!r}: empty name in the list")
     if len(set(names)) != len(names):
@@ -161,7 +163,9 @@ def cmd_check(args) -> int:
     emit(args, result, check_text(result))
     if args.report is not None:
         from ringmatch.reports.discrepancy import reproduce_command, write_report
-        command = reproduce_command(result, args.presentations, args.method)
+        from . import parameters
+        command = " ".join([reproduce_command(result, args.presentations, args.method),
+                            *parameters.shell_words(parameters.values_of(args))])
         paths = write_report(result, args.report, command=command,
                              families={f.name: f for f in families})
         print("report: " + " and ".join(map(str, paths)), file=sys.stderr)

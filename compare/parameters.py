@@ -89,3 +89,9 @@ def set_words(values: Optional[Dict[str, int]]) -> List[str]:
     for name, value in (values or {}).items():
         words += ["--set", f"{name}={value}"]
     return words
+
+
+def shell_words(values: Optional[Dict[str, int]]) -> List[str]:
+    """`set_words`, quoted for a shell command line."""
+    import shlex
+    return [shlex.quote(word) for word in set_words(values)]

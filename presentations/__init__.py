@@ -36,6 +36,9 @@ def get_family(name: str, values=None) -> Family:
     `userfile.PresentationFileError`; an unknown name raises KeyError.  `values` sets the
     integer parameters of a presentation file (name → int); other families ignore it."""
     from . import plugins, userfile
+    bound = userfile.split_bound_name(name)   # a name results carry: file[a=1,b=-2]
+    if bound is not None and presentation_file(bound[0]) is not None:
+        return userfile.load_family(presentation_file(bound[0]), {**bound[1], **(values or {})})
     file = presentation_file(name)
     if file is not None:
         return userfile.load_family(file, values)

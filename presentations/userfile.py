@@ -157,6 +157,22 @@ def accepts(spec: FileSpec, key: str) -> bool:
     return False
 
 
+_BOUND = re.compile(r"(.+)\[((?:[A-Za-z][A-Za-z0-9]*(?:_[0-9]+)?=[+-]?[0-9]{1,40},?)*)\]")
+
+
+def split_bound_name(name: str) -> Optional[Tuple[str, Dict[str, int]]]:
+    """'whitney-unknowns[sign=1,power=1]' → ('whitney-unknowns', {'sign': 1, 'power': 1}),
+    so the names results carry can be resolved again; None for other names."""
+    match = _BOUND.fullmatch(name)
+    if not match:
+        return None
+    values = {}
+    for item in filter(None, match.group(2).split(",")):
+        key, _, value = item.partition("=")
+        values[key] = int(value)
+    return match.group(1), values
+
+
 def bound_name(spec: FileSpec, values: Mapping[str, int]) -> str:
     if not spec.parameters:
         return spec.name

@@ -302,3 +302,20 @@ def test_cli_missing_values_name_the_parameters(tmp_path):
                      "--json")
     assert result.returncode == 0, result.stderr
     assert json.loads(result.stdout)["verdict"] == "agree"
+
+
+def test_the_names_results_carry_resolve_again():
+    family = get_family("whitney-unknowns[sign=-1,power=2]")
+    assert family.name == "whitney-unknowns[sign=-1,power=2]"
+    assert get_family("coulomb-levels[a=1,a_2=-1,b=0]").name == "coulomb-levels[a=1,a_2=-1,b=0]"
+    result = run_cli("check", "P1", "--presentations", "whitney,whitney-unknowns[sign=-1,power=0]",
+                     "--json")
+    assert result.returncode == 0, result.stderr
+    assert json.loads(result.stdout)["verdict"] == "disagree"
+
+
+def test_reports_repeat_the_values(tmp_path):
+    result = run_cli("check", "P1", "--presentations", "whitney,whitney-unknowns",
+                     "--set", "sign=-1", "--report", str(tmp_path))
+    assert result.returncode == 0, result.stderr
+    assert "--set sign=-1" in (tmp_path / "P1.md").read_text()
