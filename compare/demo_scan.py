@@ -1,7 +1,7 @@
 """The third scene of `ringmatch demo`: a conjecture with an unknown exponent, scanned.
 
 The invented working group's next conjecture (presentations/files/demo/kestrel-exponent.toml)
-leaves the exponent of det Q_i open (0…3, no default).  The scene scans it over the flag
+leaves the exponent of det Q_i open (0…3; their first guess, 0, is only the default).  The scene scans it over the flag
 types of the first scene (n ≤ 5, rank ≤ 30), smallest case first, dropping a value as soon
 as it disagrees with whitney, and shows the table of the surviving value and of the first
 case, where the others fall.

@@ -74,13 +74,19 @@ def find_plugin(name: str, entries: Optional[Iterable[PluginEntry]] = None) -> O
 def catalogue(builtins: dict, shipped: dict,
               entries: Optional[Iterable[PluginEntry]] = None) -> List[CatalogueLine]:
     """One line per presentation: built-ins, shipped files, then plug-ins."""
-    from .userfile import load_family
+    from .userfile import load_spec
     from .userfile_syntax import PresentationFileError
     lines = [CatalogueLine(name, "built-in", family.description)
              for name, family in sorted(builtins.items())]
     for name, path in sorted(shipped.items()):
         try:
-            description = load_family(str(path)).description
+            # The file as read, not a family: its parameters need no values to be listed.
+            spec = load_spec(str(path))
+            description = spec.description or f"{spec.flavour} file {spec.file}"
+            if spec.parameters:
+                description += " [parameters: " + ", ".join(
+                    f"{p.name}{'_i' if p.per_step else ''} in {p.describe_values()}"
+                    for p in spec.parameters) + "]"
         except PresentationFileError as error:
             description = f"(unreadable: {error})"
         kind = "shipped example" if path.parent.name == "examples" else "shipped file"
