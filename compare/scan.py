@@ -231,6 +231,10 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
             plan.skipped.append((flag.name, "; ".join(reasons)))
         else:
             plan.flags.append(flag)
+    # Expanding the file once per case here turns a broken file into one located line
+    # before the store is touched, instead of a stored error per case and point.
+    for flag in plan.flags:
+        family_of(probe[1]).generators(flag)
     return plan
 
 
