@@ -13,7 +13,7 @@ from __future__ import annotations
 import re
 from functools import lru_cache
 from math import isqrt
-from typing import Dict, List, Optional, Sequence
+from typing import Dict, List, Optional, Sequence, Tuple
 
 import sympy
 
@@ -196,3 +196,101 @@ def presentation_text(presentation: Presentation, *, latex: bool = False) -> str
         lines += [f"  {formula(u, names, latex=latex, symbol_latex=symbol_latex)}"
                   for u in presentation.units]
     return "\n".join(lines)
+
+
+# ---------------------------------------------------------------------------------------
+# Breaking display formulas into lines that fit a column
+
+# Widths are in units of about 5.3 pt (measured against pdflatex's overfull-box reports on
+# 10 pt math type).  One column of a two-column article is 229.5 pt, 43 units; a display
+# line gets 38 of them, the rest being a margin for what the estimate misses (tall
+# \left( \right), stacked scripts); continuation lines lose 4 more to their \qquad.
+COLUMN_UNITS = 38.0
+_ZERO_WIDTH = {"left", "right", "bigl", "bigr", "Bigl", "Bigr", "displaystyle", ","}
+_SPACES = {"quad": 2.0, "qquad": 4.0, ";": 0.6, ":": 0.5, "!": 0.0}
+_OPERATORS = {"+": 2.4, "-": 2.4, "=": 2.8, "<": 2.8, ">": 2.8}
+
+
+def latex_width(text: str) -> float:
+    """A rough width of math-mode LaTeX in units of about 5 pt: enough to decide where a
+    long sum breaks, not to typeset it."""
+    width, _ = _width_of(text, 0)
+    return width
+
+
+def _group(text: str, i: int) -> Tuple[float, int]:
+    """Width of the argument starting at text[i] (a {group}, a command or one character)."""
+    while i < len(text) and text[i] == " ":
+        i += 1
+    if i >= len(text):
+        return 0.0, i
+    if text[i] == "{":
+        return _width_of(text, i + 1, closing="}")
+    if text[i] == "\\":
+        match = re.match(r"\\([A-Za-z]+|.)", text[i:])
+        return 1.0, i + match.end()
+    return 1.0, i + 1
+
+
+def _width_of(text: str, i: int, closing: Optional[str] = None) -> Tuple[float, int]:
+    width = 0.0
+    while i < len(text):
+        ch = text[i]
+        if closing and ch == closing:
+            return width, i + 1
+        if ch == "{":
+            inner, i = _width_of(text, i + 1, closing="}")
+            width += inner
+        elif ch in "_^":
+            inner, i = _group(text, i + 1)
+            width += 0.7 * inner
+        elif ch == "\\":
+            match = re.match(r"\\([A-Za-z]+|.)", text[i:])
+            name = match.group(1)
+            i += match.end()
+            if name == "frac":
+                top, i = _group(text, i)
+                bottom, i = _group(text, i)
+                width += max(top, bottom) + 0.4
+            elif name in ("text", "mathrm", "texttt", "emph"):
+                inner, i = _group(text, i)
+                width += inner
+            elif name in _SPACES:
+                width += _SPACES[name]
+            elif name not in _ZERO_WIDTH:
+                width += 1.0
+        elif ch in _OPERATORS:
+            width += _OPERATORS[ch]
+            i += 1
+        elif ch in "()[]":
+            width += 0.8
+            i += 1
+        elif ch in " ":
+            i += 1
+        elif ch in ",.;:":
+            width += 0.5
+            i += 1
+        else:
+            width += 1.0
+            i += 1
+    return width, i
+
+
+def break_lines(pieces: Sequence[str], units: float = COLUMN_UNITS,
+                first_units: Optional[float] = None) -> List[str]:
+    """Consecutive pieces (terms with their signs) joined into lines of at most `units`,
+    the first of at most `first_units` (default `units`; continuation lines are indented);
+    a piece wider than that gets a line of its own."""
+    lines: List[str] = []
+    current, used = [], 0.0
+    for piece in pieces:
+        width = latex_width(piece)
+        room = units if lines or first_units is None else first_units
+        if current and used + width > room:
+            lines.append(" ".join(current))
+            current, used = [], 0.0
+        current.append(piece)
+        used += width
+    if current:
+        lines.append(" ".join(current))
+    return lines or ["0"]

@@ -95,6 +95,27 @@ def formula_latex(formula: GeneratorFormula, source_names: Sequence[str],
     return sympy.latex(expression, symbol_names=names)
 
 
+def formula_latex_lines(formula: GeneratorFormula, source_names: Sequence[str],
+                        symbol_latex: Optional[Dict[str, str]] = None,
+                        units: Optional[float] = None,
+                        first_units: Optional[float] = None) -> List[str]:
+    """`formula_latex`, broken between terms into lines of at most `units`
+    (reports.formulas.latex_width; the first line `first_units`) when it is wider; one line
+    when `units` is None."""
+    from .formulas import break_lines, latex_width
+    whole = formula_latex(formula, source_names, symbol_latex)
+    if units is None or latex_width(whole) <= (first_units or units):
+        return [whole]
+    expression = formula_expression(formula, source_names)
+    symbol_latex = symbol_latex or {}
+    names = {s: symbol_latex.get(s.name) or latex_name(s.name) for s in expression.free_symbols}
+    pieces = []
+    for index, term in enumerate(expression.as_ordered_terms()):
+        text = sympy.latex(term, symbol_names=names)
+        pieces.append(text if index == 0 or text.startswith("-") else "+ " + text)
+    return break_lines(pieces, units, first_units)
+
+
 def target_latex(name: str, symbol_latex: Optional[Dict[str, str]] = None) -> str:
     return (symbol_latex or {}).get(name) or latex_name(name)
 

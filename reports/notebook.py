@@ -127,7 +127,8 @@ class RelationsView:
         names = built.ring.ctx.names()
         rows = []
         for r in built.relations:
-            parts = relation_latex_lines(r.poly, names, symbol_latex, terms_per_line=6)
+            # a notebook is about as wide as a page, two columns
+            parts = relation_latex_lines(r.poly, names, symbol_latex, left_units=-40.0)
             rows.append(rf"\text{{[{label_latex(r.label)}]}}\quad & " + r" \\ & \quad ".join(parts))
         return r"$$\begin{aligned}" + r" \\ ".join(rows) + r"\end{aligned}$$"
 

@@ -19,7 +19,8 @@ from typing import Callable, Dict, List, Optional, Sequence, Tuple
 from ringmatch.errors import InputError
 
 from . import provenance as prov
-from .formulas import generator_latex, relation_latex_pieces
+from .formulas import (COLUMN_UNITS, break_lines, generator_latex, latex_width,
+                       relation_latex_pieces)
 from .frames import VERDICTS, Source, frame_record, load_rows, select_rows
 
 FORMATS = ("latex", "csv", "markdown")
@@ -437,7 +438,8 @@ def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
     label = rf"\label{{{table_label(table, options)}}}"
     lines = ["% ringmatch results table; needs \\usepackage{booktabs}, \\usepackage{amssymb}"
              + (", \\usepackage{longtable} (one-column pages only)" if long else "")
-             + (", \\usepackage{amsmath}" if _display_math(options) else "")]
+             + (", \\usepackage{amsmath} (and \\allowdisplaybreaks for long relation lists)"
+                if _display_math(options) else "")]
     if long:
         lines += ["{" + " ".join(_COMPACT), rf"\begin{{longtable}}{{{spec}}}",
                   rf"\caption{{{caption}}}{label}\\",
@@ -467,22 +469,46 @@ def _display_math(options: TableOptions) -> bool:
 def latex_document(fragment: str, *, long: bool, relations: bool) -> str:
     packages = ["booktabs", "amssymb"] + (["longtable"] if long else []) + \
         (["amsmath"] if relations else [])
+    # long lists of relations are one align* per presentation: let them break across pages
+    breaks = [r"\allowdisplaybreaks"] if relations else []
     return "\n".join([r"\documentclass[10pt]{article}",
-                      *[rf"\usepackage{{{p}}}" for p in packages],
+                      *[rf"\usepackage{{{p}}}" for p in packages], *breaks,
                       r"\begin{document}", fragment.rstrip("\n"), r"\end{document}", ""])
 
 
 # ---------------------------------------------------------------------------------------
 # Relations of small cases
 
+# Display lines are set in one column of a two-column article (reports.formulas.COLUMN_UNITS
+# of reports.formulas.latex_width); the left column of the align (a label, a generator)
+# takes its share, and continuation lines lose 4 more to their \qquad.
+LINE_UNITS = COLUMN_UNITS
+CONTINUATION_INDENT = 4.0
+# Below this a formula would be cut into slivers; a line may then run wide.
+MIN_LINE_UNITS = 16.0
+# Labels wider than this (with their \quad) go on a line of their own above the relation.
+STACK_LABEL_UNITS = 16.0
+
+
+def _line_room(left_units: float) -> Tuple[float, float]:
+    """(first line, continuation lines) for formulas beside a left column this wide."""
+    first = max(MIN_LINE_UNITS, LINE_UNITS - left_units)
+    return first, max(MIN_LINE_UNITS, first - CONTINUATION_INDENT)
+
+
 def relation_latex_lines(poly, names: Sequence[str], symbol_latex: Dict[str, str],
-                         terms_per_line: int = 4) -> List[str]:
-    """The relation `poly = 0` as display lines of a few terms each (long sums would run
-    off the page), (1 − q_i) factored out where that shortens it."""
+                         left_units: float = 0.0) -> List[str]:
+    """The relation `poly = 0` as display lines that fit the column beside a left column
+    of `left_units` (long sums would run off the page), (1 − q_i) factored out where that
+    shortens it."""
     pieces = relation_latex_pieces(poly, names, symbol_latex)
-    lines = [" ".join(pieces[k:k + terms_per_line]) for k in range(0, len(pieces), terms_per_line)]
-    lines[-1] += " = 0"
-    return lines
+    pieces[-1] += " = 0"     # counted with the last term, so that it never stands alone
+    first, rest = _line_room(left_units)
+    return break_lines(pieces, rest, first)
+
+
+def _label_text(label: str) -> str:
+    return rf"\text{{[{label_latex(label)}]}}"
 
 
 def _case_relations(row: dict, max_rank: int):
@@ -505,8 +531,14 @@ def _case_relations(row: dict, max_rank: int):
             continue
         symbol_latex = {g.name: generator_latex(g) for g in presentation.generators}
         names = presentation.ring.ctx.names()
+        # the labels take the left column of the align, the formulas what is left
+        label_units = max((latex_width(_label_text(r.label)) for r in presentation.relations),
+                          default=0.0) + 2.0      # and its \quad
+        # a wide label would leave the formulas a sliver: it then gets a line of its own
+        stacked = label_units > STACK_LABEL_UNITS
+        left = 2.0 if stacked else label_units
         out.append((family.name, presentation.generators,
-                    [(r.label, relation_latex_lines(r.poly, names, symbol_latex))
+                    [(r.label, relation_latex_lines(r.poly, names, symbol_latex, left), stacked)
                      for r in presentation.relations]))
     return out
 
@@ -531,8 +563,11 @@ def relations_latex(rows: Sequence[dict], max_rank: int) -> List[str]:
                 lines.append(f"% relations of {title}: presentation not available here")
                 continue
             lines += ["", rf"\paragraph{{{latex_escape(title)}}}", r"\begin{align*}"]
-            for label, parts in relations:
-                lines.append(rf"\text{{[{label_latex(label)}]}}\quad & {parts[0]} \\")
+            for label, parts, stacked in relations:
+                if stacked:
+                    lines += [rf"& {_label_text(label)} \\", rf"& \quad {parts[0]} \\"]
+                else:
+                    lines.append(rf"{_label_text(label)}\quad & {parts[0]} \\")
                 lines += [rf"& \qquad {part} \\" for part in parts[1:]]
             lines[-1] = lines[-1].rstrip(" \\")
             lines.append(r"\end{align*}")
@@ -548,7 +583,7 @@ def relations_markdown(rows: Sequence[dict], max_rank: int) -> List[str]:
                           "available here."]
                 continue
             lines += ["", f"**{row['case']}, {name}**", ""]
-            for label, parts in relations:
+            for label, parts, _ in relations:
                 lines += [f"[{label}]", "", "$$", " ".join(parts), "$$", ""]
     return lines
 
@@ -653,10 +688,19 @@ def _verdict(result) -> str:
 
 def _formula_pairs(direction, symbol_latex: Dict[str, str]) -> List[Tuple[str, str]]:
     """(target, formula) in LaTeX, generators named as in the relations."""
-    from .isomorphism import formula_latex, target_latex
-    return [(target_latex(f.target, symbol_latex),
-             formula_latex(f, direction.source_generators, symbol_latex))
-            for f in direction.formulas]
+    return [(target, " ".join(lines)) for target, lines in _formula_lines(direction, symbol_latex)]
+
+
+def _formula_lines(direction, symbol_latex: Dict[str, str]) -> List[Tuple[str, List[str]]]:
+    """(target, lines of its formula), the lines fitting the column beside the target."""
+    from .isomorphism import formula_latex_lines, target_latex
+    out = []
+    for f in direction.formulas:
+        target = target_latex(f.target, symbol_latex)
+        first, rest = _line_room(latex_width(target) + 2.8)      # and its "="
+        out.append((target, formula_latex_lines(f, direction.source_generators, symbol_latex,
+                                                rest, first)))
+    return out
 
 
 def _directions(result):
@@ -683,8 +727,9 @@ def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
         for title, direction in _directions(result):
             lines += [latex_escape(f"{title} ({direction.target} generators in "
                                    f"{direction.source} generators):"), r"\begin{align*}"]
-            lines += [f"  {target} &= {formula} \\\\" for target, formula in
-                      _formula_pairs(direction, symbol_latex)]
+            for target, parts in _formula_lines(direction, symbol_latex):
+                lines.append(f"  {target} &= {parts[0]} \\\\")
+                lines += [f"  &\\qquad {part} \\\\" for part in parts[1:]]
             lines[-1] = lines[-1].rstrip(" \\")
             lines.append(r"\end{align*}")
     return lines

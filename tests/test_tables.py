@@ -170,10 +170,17 @@ def test_relations_of_small_cases_in_display_math(rows):
     assert "Gr(2;4)" in text   # rank 6 is small enough
     # det S · det Q = (1 − q) T_1 T_2 T_3 in QK_T(P^2) (arXiv:2208.01091): the top Whitney
     # relation of P2, printed with (1 − q_1) factored out as in the identity itself.
-    top = [line for line in text.splitlines() if "level 1, $y^{3}$" in line and
-           r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1})" in line]
-    assert top and top[0].rstrip(" \\").endswith(
-        r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1}) - \left(1 - q_{1}\right) T_{1} T_{2} T_{3} = 0")
+    lines = text.splitlines()
+    start = [k for k, line in enumerate(lines) if "level 1, $y^{3}$" in line and
+             r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1})" in line]
+    assert start
+    relation = [lines[start[0]].split("& ", 1)[1]]
+    for line in lines[start[0] + 1:]:       # continuation lines of a relation too long for one
+        if not line.startswith(r"& \qquad"):
+            break
+        relation.append(line[len(r"& \qquad "):])
+    assert " ".join(part.rstrip(" \\") for part in relation) == \
+        r"\lambda_{2}(Q_{1}) \lambda_{1}(S_{1}) - \left(1 - q_{1}\right) T_{1} T_{2} T_{3} = 0"
 
 
 def tex_engine():
@@ -501,6 +508,20 @@ def test_isomorphisms_markdown_has_the_same_formulas(iso_store):
 def test_isomorphisms_latex_compiles(iso_store, tmp_path):
     options = TableOptions(isomorphisms=True, relations=True, standalone=True)
     compile_latex(render(iso_store, "latex", options), tmp_path)
+
+
+def test_relations_and_isomorphisms_fit_a_column_of_two(iso_store, tmp_path):
+    """Long relations (bethe's Chern-root equations among them) and changes of generators
+    are broken into lines that fit one column of a two-column article: TeX reports no
+    overfull line."""
+    fragment = render(iso_store, "latex", TableOptions(isomorphisms=True, relations=True))
+    (tmp_path / "results.tex").write_text(fragment)
+    paper = "\n".join([r"\documentclass[twocolumn]{article}",
+                       r"\usepackage{booktabs,amssymb,amsmath}", r"\allowdisplaybreaks",
+                       r"\begin{document}", r"\input{results}", r"\end{document}", ""])
+    log = compile_latex(paper, tmp_path)
+    assert "Overfull \\hbox" not in log, log[log.index("Overfull"):][:600]
+    assert r"\paragraph{P2, bethe}" in fragment and "& \\text{[Bethe equation" in fragment
 
 
 def test_cli_table_isomorphisms(iso_store):
