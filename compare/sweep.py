@@ -113,6 +113,9 @@ class Source:
             return {"name": self.name}
         record = {"name": self.name, "sha256": hashlib.sha256(self.raw).hexdigest()}
         if self.values:
+            # The name with its values, as results carry it (and get_family resolves it),
+            # so that tables and reports of a store tell the grid points apart.
+            record["name"] = self.name + "[" + ",".join(f"{k}={v}" for k, v in self.values) + "]"
             record["values"] = dict(self.values)
         return record
 
