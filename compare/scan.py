@@ -122,7 +122,7 @@ def parse_axis(text: str) -> Tuple[str, Tuple[int, ...]]:
     """`NAME=V1,V2,…` or `NAME=LOW..HIGH` (argparse type of --vary)."""
     import argparse
     import re
-    match = re.fullmatch(r"\s*([A-Za-z][A-Za-z0-9]*)\s*=\s*(.+?)\s*", text)
+    match = re.fullmatch(r"\s*([A-Za-z][A-Za-z0-9]*(?:_[0-9]+)?)\s*=\s*(.+?)\s*", text)
     if not match:
         raise argparse.ArgumentTypeError(f"{text!r}: expected NAME=V1,V2,… or NAME=LOW..HIGH")
     name, body = match.group(1), match.group(2)
@@ -144,13 +144,17 @@ def parse_axis(text: str) -> Tuple[str, Tuple[int, ...]]:
     return name, values
 
 
-def grid_axes(spec, fixed: Dict[str, int], vary: Sequence[Tuple[str, Tuple[int, ...]]]
-              ) -> List[Axis]:
+def grid_axes(spec, fixed: Dict[str, int], vary: Sequence[Tuple[str, Tuple[int, ...]]],
+              steps: int = 0) -> List[Axis]:
     """One axis per declared parameter not fixed by --set; a per-step parameter is one axis
-    whose value every step takes.  --vary restricts an axis to listed values (checked
-    against the declaration)."""
+    whose value every step takes, or with `steps` > 0 one axis per step a_1 … a_steps.
+    --vary restricts an axis to listed values (checked against the declaration)."""
     from ringmatch.presentations import userfile
     declared = {p.name: p for p in spec.parameters}
+    for p in spec.parameters:
+        if p.per_step and steps:
+            declared.update({f"{p.name}_{i}": p for i in range(1, steps + 1)})
+            del declared[p.name]
     restricted: Dict[str, Tuple[int, ...]] = {}
     for name, values in vary:
         if name not in declared:
@@ -165,9 +169,13 @@ def grid_axes(spec, fixed: Dict[str, int], vary: Sequence[Tuple[str, Tuple[int, 
         restricted[name] = values
     axes = []
     for p in spec.parameters:
-        if p.name in fixed or any(key.startswith(p.name + "_") for key in fixed if p.per_step):
-            continue
-        axes.append(Axis(p.name, restricted.get(p.name, p.values)))
+        names = [f"{p.name}_{i}" for i in range(1, steps + 1)] if p.per_step and steps \
+            else [p.name]
+        for name in names:
+            if name in fixed or p.name in fixed or (
+                    p.per_step and not steps and any(k.startswith(p.name + "_") for k in fixed)):
+                continue
+            axes.append(Axis(name, restricted.get(name, p.values)))
     return axes
 
 
@@ -191,7 +199,7 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
               fixed: Optional[Dict[str, int]] = None,
               vary: Sequence[Tuple[str, Tuple[int, ...]]] = (), seed: int = 0,
               prime: Optional[int] = None, equivariant: bool = True, order: int = 6,
-              trials: int = 1, colengths: bool = False,
+              trials: int = 1, colengths: bool = False, per_step: bool = False,
               max_grid: int = DEFAULT_MAX_GRID) -> ScanPlan:
     """Everything checked before any computation: the file, the values, the grid's size."""
     from ringmatch.presentations import userfile
@@ -211,7 +219,7 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
     # Any one grid point, so that parameters without a default can be read at all.
     probe_values = {**{p.name: p.values[0] for p in spec.parameters}, **fixed}
     userfile.bind_values(spec, probe_values)
-    axes = grid_axes(spec, fixed, vary)
+    axes = grid_axes(spec, fixed, vary, max((f.m for f in flags), default=1) if per_step else 0)
     size = grid_size(axes)
     # Estimated before anything is built or written: the product can be astronomically large.
     if size * max(1, len(flags)) > max_grid:

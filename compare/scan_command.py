@@ -33,6 +33,9 @@ def add_arguments(parser, *, prime_argument, positive_int) -> None:
                         metavar="NAME=V1,V2|LOW..HIGH",
                         help="scan only these values of a parameter (repeatable); parameters "
                              "neither fixed with --set nor listed here take all declared values")
+    parser.add_argument("--per-step", action="store_true",
+                        help="a per-step parameter a is one axis per step (a_1, a_2, …) instead "
+                             "of one value for every step")
     parser.add_argument("--max-grid", type=positive_int, default=DEFAULT_MAX_GRID, metavar="K",
                         help=f"refuse scans of more than K grid points × cases (default "
                              f"{DEFAULT_MAX_GRID})")
@@ -97,7 +100,8 @@ def command(args) -> int:
         plan = plan_scan(args.presentation, flags, reference=args.reference, fixed=fixed,
                          vary=args.vary, seed=args.seed, prime=args.prime,
                          equivariant=not args.plain, order=args.order, trials=args.trials,
-                         colengths=args.colengths, max_grid=args.max_grid)
+                         colengths=args.colengths, per_step=args.per_step,
+                         max_grid=args.max_grid)
     except KeyError as error:   # an unknown reference name
         raise UsageError(str(error.args[0])) from None
     if not plan.flags:

@@ -184,3 +184,11 @@ def test_the_demo_scene_finds_the_one_exponent(tmp_path):
     assert sorted(d["values"]["exponent"] for d in scene["scan"]["dropped"]) == [0, 2, 3]
     assert any("exponent = 1 agrees on all" in line for line in lines)
     assert (tmp_path / "exponent-scan.md").read_text().startswith("**P1:")
+
+
+def test_per_step_axes(tmp_path):
+    data = scan_json("coulomb-levels", "--cases", "Fl(3)", "--per-step", "--vary", "a_1=-1..1",
+                     "--vary", "a_2=0,1", "--set", "b=0", "--store", str(tmp_path / "s.db"))
+    assert data["parameters"] == ["a_1", "a_2"]
+    assert len(data["points"]) == 6
+    assert data["agreeing_everywhere"] == [{"a_1": 0, "a_2": 0}]
