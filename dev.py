@@ -48,6 +48,9 @@ def main(argv: list) -> int:
     if argv[0] == "demo":
         command = [str(BIN / "ringmatch"), "demo", *argv[1:]]
     else:
+        # Collection takes a few seconds before pytest's first line: say what is coming.
+        print("dev.py: running the test suite (pytest); it first prints how many tests and "
+              "how long the last whole run took", flush=True)
         command = [str(python_in_venv()), "-m", "pytest", *argv[1:]]
     return subprocess.run(command, cwd=HERE).returncode
 
