@@ -562,7 +562,8 @@ def relations_latex(rows: Sequence[dict], max_rank: int) -> List[str]:
             if relations is None:
                 lines.append(f"% relations of {title}: presentation not available here")
                 continue
-            lines += ["", rf"\paragraph{{{latex_escape(title)}}}", r"\begin{align*}"]
+            heading = f"{case_latex(row['case'])}, {latex_escape(name)}"
+            lines += ["", rf"\paragraph{{{heading}}}", r"\begin{align*}"]
             for label, parts, stacked in relations:
                 if stacked:
                     lines += [rf"& {_label_text(label)} \\", rf"& \quad {parts[0]} \\"]
@@ -716,7 +717,7 @@ def isomorphisms_latex(found: Sequence[CaseIsomorphism]) -> List[str]:
             lines.append(f"% {item.case}: no isomorphism printed: {latex_escape(item.note)}")
             continue
         result = item.result
-        title = f"{latex_escape(item.case)}, {latex_escape(item.pair[0])} $\\to$ " \
+        title = f"{case_latex(item.case)}, {latex_escape(item.pair[0])} $\\to$ " \
                 f"{latex_escape(item.pair[1])}"
         lines += ["", rf"\paragraph{{Isomorphism {title}}}",
                   latex_escape(f"{_verdict(result)}; seed {item.seed}.")]

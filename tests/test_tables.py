@@ -21,7 +21,7 @@ from ringmatch.compare.engine import check_case
 from ringmatch.presentations import get_family
 from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.reports.frames import FRAME_COLUMNS, SourceError, load_rows, results_frame, row_from_result
-from ringmatch.reports.tables import (LONGTABLE_ROWS, TableError, TableOptions, build_table, csv_table,
+from ringmatch.reports.tables import (LONGTABLE_ROWS, case_latex, TableError, TableOptions, build_table, csv_table,
                             latex_table, markdown_table, parse_columns, render)
 
 from conftest import run_cli
@@ -166,7 +166,9 @@ def test_consistent_is_its_own_word_and_not_counted_as_agreement(rows):
 
 def test_relations_of_small_cases_in_display_math(rows):
     text = latex_table(build_table(rows, TableOptions(relations=True)), TableOptions(relations=True))
-    assert r"\paragraph{P2, whitney}" in text and r"\paragraph{Fl(3), whitney-sign-error}" in text
+    # case names in math mode, as in the table
+    assert r"\paragraph{$\mathbb{P}^{2}$, whitney}" in text
+    assert r"\paragraph{$\mathrm{Fl}(3)$, whitney-sign-error}" in text
     assert "Gr(2;4)" in text   # rank 6 is small enough
     # det S · det Q = (1 − q) T_1 T_2 T_3 in QK_T(P^2) (arXiv:2208.01091): the top Whitney
     # relation of P2, printed with (1 − q_1) factored out as in the identity itself.
@@ -470,7 +472,7 @@ def test_isomorphisms_latex_give_the_change_of_variables(iso_store):
     text = render(iso_store, "latex", options)
     for case in ("Gr(2;4)", "Fl(3)"):
         inverse, forward = change_of_variables(case)
-        title = rf"\paragraph{{Isomorphism {case}, whitney $\to$ vieta}}"
+        title = rf"\paragraph{{Isomorphism {case_latex(case)}, whitney $\to$ vieta}}"
         assert title in text
         blocks = align_blocks(text, title)
         assert blocks == [forward, inverse], case
@@ -479,7 +481,7 @@ def test_isomorphisms_latex_give_the_change_of_variables(iso_store):
     assert r"\lambda_{1}(Q_{1}) &= e_{1}(Y^{(1)}) \\" in text
     # bethe is skipped with a reason in a comment; the pair is then whitney, vieta
     assert "% P2: bethe skipped for the isomorphism: its generators are Chern roots" in text
-    assert r"\paragraph{Isomorphism P2, whitney $\to$ vieta}" in text
+    assert r"\paragraph{Isomorphism $\mathbb{P}^{2}$, whitney $\to$ vieta}" in text
     assert "Fl(1,2;4)" not in text.split(r"\end{table}")[1].split("% produced by")[0]
     # the block names each search with the seed of the stored certificate
     block = [line for line in text.splitlines() if line.startswith("% isomorphisms computed")]
@@ -521,7 +523,8 @@ def test_relations_and_isomorphisms_fit_a_column_of_two(iso_store, tmp_path):
                        r"\begin{document}", r"\input{results}", r"\end{document}", ""])
     log = compile_latex(paper, tmp_path)
     assert "Overfull \\hbox" not in log, log[log.index("Overfull"):][:600]
-    assert r"\paragraph{P2, bethe}" in fragment and "& \\text{[Bethe equation" in fragment
+    assert r"\paragraph{$\mathbb{P}^{2}$, bethe}" in fragment
+    assert "& \\text{[Bethe equation" in fragment
 
 
 def test_cli_table_isomorphisms(iso_store):
