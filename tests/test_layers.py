@@ -23,7 +23,7 @@ PACKAGES = {"ringmatch": "ringmatch", "compare": "ringmatch.compare",
 LAYERS = ("algebra", "presentations", "engine", "reports", "command line")
 
 # Modules of compare/ outside the engine layer; every other compare module is engine, except
-# that a subcommand module named *_cli or *_command belongs to the command line.
+# that subcommand modules (*_cli, *_command) and the demo's (demo*) are the command line.
 ALGEBRA = {"ringmatch", "ringmatch.errors", "ringmatch.compare", "ringmatch.compare.algebra",
            "ringmatch.compare.series", "ringmatch.compare.ideal_division",
            "ringmatch.compare.groebner", "ringmatch.compare.reconstruct"}
@@ -48,8 +48,8 @@ FAMILY_MODULES = {"ringmatch.presentations.whitney", "ringmatch.presentations.vi
 def layer_of(module: str) -> str:
     if module in ALGEBRA:
         return "algebra"
-    if module in COMMAND_LINE or module.startswith("ringmatch.compare.") and \
-            module.endswith(("_cli", "_command")):
+    if module in COMMAND_LINE or module.startswith("ringmatch.compare.") and (
+            module.endswith(("_cli", "_command")) or module.startswith("ringmatch.compare.demo")):
         return "command line"
     if module == "ringmatch.presentations" or module.startswith("ringmatch.presentations."):
         return "presentations"
