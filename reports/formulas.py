@@ -10,6 +10,7 @@ mod p are read back as the small rational they stand for when there is one (`sma
 """
 from __future__ import annotations
 
+import math
 import re
 from functools import lru_cache
 from math import isqrt
@@ -133,11 +134,57 @@ def split_one_minus_q(expr: sympy.Expr):
     return best
 
 
+# Stand-ins for e_j(T_1, …, T_n) in a relation; the double underscore keeps them apart from
+# every generator name (a generator name starts with a letter).
+_ELEMENTARY = "__e{}"
+
+
+def elementary_latex(n_weights: int) -> Dict[str, str]:
+    """LaTeX of the stand-ins `collapse_elementary` puts in for e_j(T), 1 ≤ j < n."""
+    return {_ELEMENTARY.format(j): f"e_{{{j}}}(T)" for j in range(1, n_weights)}
+
+
+def collapse_elementary(expr: sympy.Expr, weights: Sequence[sympy.Symbol]) -> sympy.Expr:
+    """`expr` with every complete elementary symmetric polynomial e_j of the weights T
+    (1 ≤ j < n, all C(n, j) square-free monomials of degree j with one coefficient) inside
+    the coefficient of a monomial in the other variables replaced by a stand-in printed
+    e_j(T).  e_n = T_1⋯T_n stays a product: it is as short, and reads as the determinant.
+
+    Expanded, e_2 of five weights alone is ten terms; Whitney-type relations are full of
+    them."""
+    n = len(weights)
+    if n < 2 or not (expr.free_symbols & set(weights)):
+        return expr
+    others = sorted(expr.free_symbols - set(weights), key=lambda s: s.name)
+    outer = sympy.Poly(expr, *others) if others else None
+    pairs = outer.terms() if outer is not None else [((), expr)]
+    total = sympy.Integer(0)
+    for exponents, coefficient in pairs:
+        inner = sympy.Poly(coefficient, *weights)
+        by_degree: Dict[int, list] = {}
+        for monomial, c in inner.terms():
+            by_degree.setdefault(sum(monomial), []).append((monomial, c))
+        collapsed = sympy.Integer(0)
+        for degree, terms in by_degree.items():
+            values = {c for _, c in terms}
+            if 0 < degree < n and len(values) == 1 and len(terms) == math.comb(n, degree) \
+                    and all(max(m) == 1 for m, _ in terms):
+                collapsed += values.pop() * sympy.Symbol(_ELEMENTARY.format(degree))
+            else:
+                for monomial, c in terms:
+                    collapsed += c * sympy.Mul(*[w ** e for w, e in zip(weights, monomial)])
+        total += collapsed * sympy.Mul(*[o ** e for o, e in zip(others, exponents)])
+    return sympy.expand(total)
+
+
 def relation_latex_pieces(poly, names: Sequence[str], symbol_latex: Dict[str, str]) -> List[str]:
     """The terms of `poly` in LaTeX, each with its sign (the first without a leading +),
-    with a factor (1 − q_i) taken out where that shortens the relation; a factored sum is
-    spread over several pieces (\\bigl( … \\bigr) may break across display lines)."""
-    expr = to_sympy(poly, names)
+    with a factor (1 − q_i) taken out where that shortens the relation and the elementary
+    symmetric polynomials of the weights written e_j(T) (`collapse_elementary`); a factored
+    sum is spread over several pieces (\\bigl( … \\bigr) may break across display lines)."""
+    weights = [_symbol(name) for name in names if re.fullmatch(r"T\d+", name)]
+    expr = collapse_elementary(to_sympy(poly, names), weights)
+    symbol_latex = {**symbol_latex, **elementary_latex(len(weights))}
     split = split_one_minus_q(expr)
     if split is None:
         rest, q, multiple = expr, None, sympy.Integer(0)
@@ -178,7 +225,11 @@ def relation_latex(poly, names: Sequence[str], symbol_latex: Dict[str, str]) -> 
 
 
 def presentation_text(presentation: Presentation, *, latex: bool = False) -> str:
-    """Generators with their meanings, then the relations, one per line."""
+    """Generators with their meanings, then the relations, one per line; with `latex`, the
+    relations as an align* block (reports.tables.presentation_latex)."""
+    if latex:
+        from .tables import presentation_latex
+        return presentation_latex(presentation)
     names = presentation.ring.ctx.names()
     flag = presentation.flag
     lines = [f"{presentation.family} presentation of QK_T({flag.name}), rank {flag.rank}",

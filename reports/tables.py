@@ -529,18 +529,56 @@ def _case_relations(row: dict, max_rank: int):
         except Exception:   # a file that moved, a plug-in not installed here
             out.append((name, None, None))
             continue
-        symbol_latex = {g.name: generator_latex(g) for g in presentation.generators}
-        names = presentation.ring.ctx.names()
-        # the labels take the left column of the align, the formulas what is left
-        label_units = max((latex_width(_label_text(r.label)) for r in presentation.relations),
-                          default=0.0) + 2.0      # and its \quad
-        # a wide label would leave the formulas a sliver: it then gets a line of its own
-        stacked = label_units > STACK_LABEL_UNITS
-        left = 2.0 if stacked else label_units
-        out.append((family.name, presentation.generators,
-                    [(r.label, relation_latex_lines(r.poly, names, symbol_latex, left), stacked)
-                     for r in presentation.relations]))
+        out.append((family.name, presentation.generators, presentation_relations(presentation)))
     return out
+
+
+def presentation_relations(presentation) -> List[Tuple[str, List[str], bool]]:
+    """(label, display lines, whether the label stands on a line of its own) per relation."""
+    symbol_latex = {g.name: generator_latex(g) for g in presentation.generators}
+    names = presentation.ring.ctx.names()
+    # the labels take the left column of the align, the formulas what is left
+    label_units = max((latex_width(_label_text(r.label)) for r in presentation.relations),
+                      default=0.0) + 2.0      # and its \quad
+    # a wide label would leave the formulas a sliver: it then gets a line of its own
+    stacked = label_units > STACK_LABEL_UNITS
+    left = 2.0 if stacked else label_units
+    return [(r.label, relation_latex_lines(r.poly, names, symbol_latex, left), stacked)
+            for r in presentation.relations]
+
+
+def align_lines(relations: Sequence[Tuple[str, List[str], bool]]) -> List[str]:
+    """An align* environment of labelled relations (from `presentation_relations`)."""
+    lines = [r"\begin{align*}"]
+    for label, parts, stacked in relations:
+        if stacked:
+            lines += [rf"& {_label_text(label)} \\", rf"& \quad {parts[0]} \\"]
+        else:
+            lines.append(rf"{_label_text(label)}\quad & {parts[0]} \\")
+        lines += [rf"& \qquad {part} \\" for part in parts[1:]]
+    lines[-1] = lines[-1].rstrip(" \\")
+    return lines + [r"\end{align*}"]
+
+
+def presentation_latex(presentation) -> str:
+    """`ringmatch relations --latex`: the relations as an align* block for a paper, set like
+    the relations under a table, with the generators and units in words above it."""
+    from .formulas import formula
+    flag = presentation.flag
+    symbol_latex = {g.name: generator_latex(g) for g in presentation.generators}
+    names = presentation.ring.ctx.names()
+    lines = [f"% {presentation.family} presentation of QK_T({flag.name}), rank {flag.rank}; "
+             "needs \\usepackage{amsmath} (and amssymb for the case name)",
+             "% generators: " + ", ".join(f"{g.name} = {symbol_latex[g.name]}"
+                                          for g in presentation.generators),
+             "% " + ELEMENTARY_NOTE,
+             rf"\paragraph{{{case_latex(flag.name)}, {latex_escape(presentation.family)}}}"]
+    lines += align_lines(presentation_relations(presentation))
+    if presentation.units:
+        inverted = ", ".join(f"${formula(u, names, latex=True, symbol_latex=symbol_latex)}$"
+                             for u in presentation.units)
+        lines.append(f"Inverted: {inverted}.")
+    return "\n".join(lines)
 
 
 def label_latex(label: str) -> str:
@@ -563,15 +601,9 @@ def relations_latex(rows: Sequence[dict], max_rank: int) -> List[str]:
                 lines.append(f"% relations of {title}: presentation not available here")
                 continue
             heading = f"{case_latex(row['case'])}, {latex_escape(name)}"
-            lines += ["", rf"\paragraph{{{heading}}}", r"\begin{align*}"]
-            for label, parts, stacked in relations:
-                if stacked:
-                    lines += [rf"& {_label_text(label)} \\", rf"& \quad {parts[0]} \\"]
-                else:
-                    lines.append(rf"{_label_text(label)}\quad & {parts[0]} \\")
-                lines += [rf"& \qquad {part} \\" for part in parts[1:]]
-            lines[-1] = lines[-1].rstrip(" \\")
-            lines.append(r"\end{align*}")
+            lines += ["", rf"\paragraph{{{heading}}}", *align_lines(relations)]
+    if any("(T)" in line for line in lines):
+        lines.insert(0, "\n" + ELEMENTARY_NOTE)
     return lines
 
 
@@ -586,7 +618,14 @@ def relations_markdown(rows: Sequence[dict], max_rank: int) -> List[str]:
             lines += ["", f"**{row['case']}, {name}**", ""]
             for label, parts, _ in relations:
                 lines += [f"[{label}]", "", "$$", " ".join(parts), "$$", ""]
+    if any("(T)" in line for line in lines):
+        lines.insert(0, "\n" + ELEMENTARY_NOTE)
     return lines
+
+
+# Relations write the elementary symmetric polynomials of the weights compactly.
+ELEMENTARY_NOTE = (r"In the relations, $e_j(T)$ is the $j$-th elementary symmetric "
+                   r"polynomial of the weights $T_1, \dots, T_n$.")
 
 
 # ---------------------------------------------------------------------------------------

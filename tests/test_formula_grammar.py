@@ -105,3 +105,30 @@ def test_isomorphism_formulas_paste_back_up_to_the_unit_multiplied_through():
     for f, back in zip(direction.formulas, pasted):
         ratio = sympy.cancel(back / formula_expression(f, direction.source_generators))
         assert ratio != 0 and not (ratio.free_symbols & generator_symbols), (f.target, ratio)
+
+
+def test_latex_relations_write_elementary_symmetric_polynomials_of_the_weights():
+    """Whitney relations are λ_y(S_i)·λ_y(Q_i) = λ_y(S_{i+1}) deformed by q (arXiv:2310.03826);
+    at the last level λ_y(S_{m+1}) = ∏(1 + y T_j), whose coefficients are the e_j(T).  The
+    compact form substituted back is the relation itself."""
+    import itertools
+    import math
+
+    from ringmatch.reports.formulas import collapse_elementary, relation_latex
+
+    flag = parse_flag("Fl(1,3;5)")
+    presentation = build_symbolic(get_family("whitney"), flag)
+    names = presentation.ring.ctx.names()
+    weights = sympy.symbols("T1:6")
+    elementary = {sympy.Symbol(f"__e{j}"): sum(math.prod(c) for c in itertools.combinations(
+        weights, j)) for j in range(1, 5)}
+    for relation in presentation.relations:
+        expr = to_sympy(relation.poly, names)
+        compact = collapse_elementary(expr, weights)
+        assert sympy.expand(compact.subs(elementary) - expr) == 0, relation.label
+    by_label = {r.label: r for r in presentation.relations}
+    symbols = {g.name: g.meaning.text for g in presentation.generators}
+    level2 = relation_latex(by_label["level 2, y^2"].poly, names, symbols)
+    assert "e_{2}(T)" in level2 and "T_{1} T_{2}" not in level2
+    top = relation_latex(by_label["level 2, y^5"].poly, names, symbols)
+    assert "T_{1} T_{2} T_{3} T_{4} T_{5}" in top     # e_5 stays the product of the weights
