@@ -175,7 +175,10 @@ SYMBOL_NOTES = (
     "common λ-class ring: det S_1, …, det S_m, then any further unit a presentation "
     "declares).",
     "Formulas are written in the expression grammar of presentation files "
-    "(docs/presentation-files.md), so they can be pasted into one.",
+    "(docs/presentation-files.md), so they can be pasted into one. In their LaTeX (the "
+    "JSON's `latex` fields), generators are written as the classes they stand for, a factor "
+    "1 − q_i is taken out, and e_j(T) is the j-th elementary symmetric polynomial of the "
+    "weights.",
     "A relation that fails at the Bethe points is nonzero at the named torus-fixed point "
     "(chain I_1 ⊂ … ⊂ I_m) from the power s^k on, where q_i = c_i·s is the certificate's "
     "q line; k = 0 means it is already wrong classically (q = 0).",
