@@ -309,6 +309,7 @@ def cmd_table(args) -> int:
     words += ["--relations"] if args.relations else []
     words += ["--isomorphisms"] if args.isomorphisms else []
     words += ["--standalone"] if args.standalone else []
+    words += ["--longtable"] if args.longtable else []
     words += ["--caption", args.caption] if args.caption else []
     words += ["--label", args.label] if args.label else []
     try:
@@ -317,7 +318,7 @@ def cmd_table(args) -> int:
             group_by_n=args.group_by_n, relations=args.relations,
             isomorphisms=args.isomorphisms,
             standalone=args.standalone, command=_output_command(words),
-            caption=args.caption, label=args.label, **selection)
+            caption=args.caption, label=args.label, longtable=args.longtable, **selection)
         text = render(args.store, args.format, options)
         _note_several_sweeps(args.store, selection)
     except (SourceError, TableError) as error:
@@ -430,6 +431,10 @@ def build_parser() -> argparse.ArgumentParser:
                         "check's seed, and print it in display math")
     p.add_argument("--standalone", action="store_true",
                    help="LaTeX: a complete document rather than a fragment for \\input")
+    p.add_argument("--longtable", action="store_true",
+                   help="LaTeX, more than 30 rows: one longtable across pages (one-column "
+                        "documents only) instead of floats of 30 rows, which also fit two "
+                        "columns")
     p.add_argument("--caption", metavar="TEXT",
                    help="first sentence of the caption (default: what was compared); the "
                         "facts shared by every row and the verdict counts follow it")

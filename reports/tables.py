@@ -103,6 +103,7 @@ class TableOptions:
     sweep: Optional[str] = None           # only rows of this sweep (prefix of its key)
     presentations: Optional[Tuple[str, ...]] = None   # only rows comparing exactly these
     equivariant: Optional[bool] = None    # only equivariant (True) or plain (False) rows
+    longtable: bool = False               # LaTeX, many rows: one longtable, not floats
 
 
 def parse_columns(text: str) -> Tuple[str, ...]:
@@ -436,11 +437,22 @@ def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
         body += [" & ".join(row) + r" \\" for row in rows]
     caption = layout.caption
     label = rf"\label{{{table_label(table, options)}}}"
+    use_longtable = long and options.longtable
     lines = ["% ringmatch results table; needs \\usepackage{booktabs}, \\usepackage{amssymb}"
-             + (", \\usepackage{longtable} (one-column pages only)" if long else "")
+             + (", \\usepackage{longtable} (one-column pages only)" if use_longtable else "")
              + (", \\usepackage{amsmath} (and \\allowdisplaybreaks for long relation lists)"
                 if _display_math(options) else "")]
-    if long:
+    if long and not use_longtable:
+        # Floats of LONGTABLE_ROWS rows, numbered as one table: unlike a longtable they
+        # also work on two-column pages.
+        for index, chunk in enumerate(_chunks(body, LONGTABLE_ROWS)):
+            title = [rf"\caption{{{caption}}}", label] if index == 0 else \
+                [r"\addtocounter{table}{-1}",
+                 rf"\caption[]{{(continued from the previous page)}}"]
+            lines += [r"\begin{table}[htbp]", r"\centering", *title, *_COMPACT,
+                      rf"\begin{{tabular}}{{{spec}}}", r"\toprule", header, r"\midrule",
+                      *chunk, r"\bottomrule", r"\end{tabular}", r"\end{table}"]
+    elif use_longtable:
         lines += ["{" + " ".join(_COMPACT), rf"\begin{{longtable}}{{{spec}}}",
                   rf"\caption{{{caption}}}{label}\\",
                   r"\toprule", header, r"\midrule", r"\endfirsthead",
@@ -458,8 +470,29 @@ def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
     lines += [f"% {line}" for line in block_lines(table)]
     text = "\n".join(lines) + "\n"
     if options.standalone:
-        return latex_document(text, long=long, relations=_display_math(options))
+        return latex_document(text, long=use_longtable, relations=_display_math(options))
     return text
+
+
+def _chunks(body: Sequence[str], rows: int) -> List[List[str]]:
+    """The body lines in pieces of at most `rows` table rows; a piece never starts with a
+    rule, and a group heading (n = …) moves on with the rows it heads."""
+    chunks: List[List[str]] = [[]]
+    count = 0
+    pending: List[str] = []
+    for line in body:
+        if line == r"\midrule" or line.startswith(r"\multicolumn") or \
+                line.startswith(r"\addlinespace"):
+            pending.append(line)
+            continue
+        if count == rows:
+            chunks.append([])
+            count = 0
+            pending = [x for x in pending if x != r"\midrule"]
+        chunks[-1] += pending + [line]
+        pending = []
+        count += 1
+    return chunks
 
 
 def _display_math(options: TableOptions) -> bool:

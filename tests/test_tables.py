@@ -147,7 +147,11 @@ def test_latex_short_and_long_forms(rows):
     assert r"$\mathrm{Fl}(3)$ & 6 & (b) & disagree" in body
     assert r"$\mathrm{Gr}(2,4)$" in body
     many = rows * (LONGTABLE_ROWS // len(rows) + 1)
-    long = latex_table(build_table(many))
+    floats = latex_table(build_table(many))        # default: floats of LONGTABLE_ROWS rows
+    assert floats.count(r"\begin{table}") == 2 and "longtable" not in floats
+    assert floats.count(r"\label{") == 1 and r"\addtocounter{table}{-1}" in floats
+    options = TableOptions(longtable=True)
+    long = latex_table(build_table(many, options), options)
     assert r"\begin{longtable}" in long and r"\endhead" in long
     provenance = [line for line in long.splitlines() if line.startswith("% primes:")]
     assert provenance and str(rows[0]["result"]["certificate"]["prime"]) in provenance[0]
@@ -213,11 +217,12 @@ def test_latex_compiles_standalone_with_relations(rows, tmp_path):
     compile_latex(render(rows, "latex", options), tmp_path)
 
 
-def test_latex_longtable_compiles_and_breaks_pages(rows, tmp_path):
+@pytest.mark.parametrize("longtable", [True, False])
+def test_latex_long_tables_compile_and_break_pages(rows, tmp_path, longtable):
     many = rows * 30     # 90 rows: more than one page
     options = TableOptions(columns=parse_columns("case,kind,n,rank,presentations,verdict,"
                                                  "certificate,seconds"), group_by_n=True,
-                           standalone=True)
+                           standalone=True, longtable=longtable)
     log = compile_latex(render(many, "latex", options), tmp_path)
     if "Output written" in log:   # pdflatex and lualatex report the page count
         pages = int(log.split("Output written on doc.pdf (")[1].split(" page")[0])
@@ -234,11 +239,13 @@ def test_latex_fragment_compiles_inside_a_paper(rows, tmp_path):
 
 
 @pytest.mark.parametrize("options", ["", "twocolumn"])
-def test_default_table_fits_the_column(rows, tmp_path, options):
-    """The default table inside a one-column and a two-column article: TeX reports every
-    line wider than the column as an "Overfull \\hbox" in the log."""
-    fragment = render(rows, "latex", TableOptions(command="ringmatch table runs.db "
-                                                          "--format latex"))
+@pytest.mark.parametrize("copies", [1, 15])
+def test_default_table_fits_the_column(rows, tmp_path, options, copies):
+    """The default table inside a one-column and a two-column article, short and long (45
+    rows: two floats): TeX reports every line wider than the column as an "Overfull
+    \\hbox" in the log, and a float taller than the page as an "Overfull \\vbox"."""
+    fragment = render(rows * copies, "latex", TableOptions(command="ringmatch table runs.db "
+                                                                   "--format latex"))
     (tmp_path / "results.tex").write_text(fragment)
     paper = "\n".join([rf"\documentclass[{options}]{{article}}",
                        r"\usepackage{booktabs,amssymb}", r"\begin{document}",
