@@ -17,21 +17,25 @@ _SETTING = re.compile(r"\s*([A-Za-z][A-Za-z0-9]*(?:_[0-9]+)?)\s*=\s*([+-]?[0-9]{
 MAX_DIGITS = 40
 
 
+def _shown(text: str, width: int = 40) -> str:
+    text = text.strip()
+    return repr(text if len(text) <= width else text[:width] + "…")
+
+
 def set_argument(text: str) -> Tuple[str, int]:
     """argparse type of one `--set name=value`."""
     match = _SETTING.fullmatch(text)
-    if not match:
-        head, equals, value = text.partition("=")
-        if not equals:
-            raise argparse.ArgumentTypeError(f"{text!r}: expected name=value, e.g. sign=-1")
-        if not re.fullmatch(r"\s*[A-Za-z][A-Za-z0-9]*(?:_[0-9]+)?\s*", head):
-            raise argparse.ArgumentTypeError(f"{text!r}: {head.strip()!r} is not a parameter "
-                                             "name (a letter, then letters and digits, "
-                                             "optionally _step)")
-        shown = value.strip()[:20] + ("…" if len(value.strip()) > 20 else "")
-        raise argparse.ArgumentTypeError(f"{text[:60]!r}: the value {shown!r} is not an integer "
-                                         f"(at most {MAX_DIGITS} digits)")
-    return match.group(1), int(match.group(2))
+    if match:
+        return match.group(1), int(match.group(2))
+    head, equals, value = text.partition("=")
+    if not equals:
+        raise argparse.ArgumentTypeError(f"{_shown(text)}: expected name=value, e.g. sign=-1")
+    if not re.fullmatch(r"\s*[A-Za-z][A-Za-z0-9]*(?:_[0-9]+)?\s*", head):
+        raise argparse.ArgumentTypeError(f"{_shown(text)}: {_shown(head)} is not a parameter "
+                                         "name (a letter, then letters and digits, optionally "
+                                         "_step)")
+    raise argparse.ArgumentTypeError(f"{_shown(text)}: the value {_shown(value, 20)} is not an "
+                                     f"integer (at most {MAX_DIGITS} digits)")
 
 
 def add_argument(parser) -> None:

@@ -322,11 +322,8 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
     if plan.settings["colengths"]:
         second = list(todo)
     else:
-        first_seconds: Dict[int, float] = {}
-
         def after_points(index: int, result: dict, seconds: float):
             flag, point = todo[index]
-            first_seconds[index] = seconds
             if not result.get("presentations"):
                 save(flag, point, result, seconds, False)     # a limit or an error: as is
             elif refuted_at_points(plan, point, result):
