@@ -105,7 +105,8 @@ def pytest_collection_finish(session):
     if _state["whole"]:
         how_long = (f"the last whole run here took {_duration_text(last)}" if last
                     else "the whole suite takes a few minutes on two cores")
-    elif getattr(session.config.option, "slow", False):
+    elif getattr(option, "slow", False) and \
+            all(arg.rstrip("/").endswith("tests") for arg in session.config.args):
         how_long = "slow tests included (as in CI): longer than the default run"
     else:
         how_long = "a selection of the suite"
