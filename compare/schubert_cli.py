@@ -19,7 +19,15 @@ from . import algebra
 from . import schubert as engine
 
 
+def _values(args) -> dict:
+    """The --set values for presentation files with parameters (compare/parameters.py)."""
+    from . import parameters
+    return parameters.resolved(args, args.presentation)
+
+
 def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_negative_int) -> None:
+    from . import parameters
+    parameters.add_argument(p)
     p.add_argument("case", type=flag_argument, nargs="?",
                    help="e.g. 'Gr(2,5)', P3, or a partial flag with a basis file")
     p.add_argument("--up-to", type=non_negative_int, metavar="N",
@@ -133,7 +141,7 @@ def _case(args, flag, seed):
     the first's."""
     results, bases = [], []
     for name in args.presentation:
-        family = get_family(name)
+        family = get_family(name, _values(args))
         basis = _basis_for(args, flag, name)
         options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree,
                        equivariant=args.equivariant)
@@ -219,7 +227,7 @@ def _all_candidates(args, flag, options, report) -> int:
         raise engine.SchubertError("--basis all: the built-in candidates are for Grassmannians")
     outcomes, payload = {}, []
     for name in args.presentation:
-        family = get_family(name)
+        family = get_family(name, _values(args))
         for candidate in sb.CANDIDATES:
             result = engine.structure_constants(flag, family,
                                                 engine.candidate_basis(flag, candidate),
