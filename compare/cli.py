@@ -118,15 +118,54 @@ def prime_argument(text: str) -> int:
         raise argparse.ArgumentTypeError(str(error)) from None
 
 
+def shown(path: str, limit: int = 60) -> str:
+    """A path for a one-line message: a very long one is cut in the middle."""
+    text = str(path)
+    return repr(text) if len(text) <= limit else repr(text[:limit // 2] + "…" + text[-limit // 2:])
+
+
 def report_directory_usable(directory: str) -> None:
-    """Fail before the computation, not after it, when the report cannot be written."""
-    path = os.path.abspath(directory)
-    while not os.path.exists(path):
-        path = os.path.dirname(path)
-    if not os.path.isdir(path):
-        raise UsageError(f"--report {directory!r}: {path} is not a directory")
-    if not os.access(path, os.W_OK):
-        raise UsageError(f"--report {directory!r}: {path} is not writable")
+    """Fail before the computation, not after it, when the report cannot be written: the
+    missing folders are made and a file is created in the last one, and all of it is removed
+    again, so that a refused or failed check leaves nothing behind."""
+    import tempfile
+    target = os.path.abspath(directory)
+    missing, path = [], target
+    try:
+        while not os.path.lexists(path):
+            missing.append(path)
+            path = os.path.dirname(path)
+        if not os.path.isdir(path):
+            raise UsageError(f"--report {shown(directory)}: {shown(path)} is not a directory")
+    except OSError as error:
+        raise UsageError(f"--report {shown(directory)}: {error.strerror or error}") from None
+    created = []
+    try:
+        for folder in reversed(missing):
+            os.mkdir(folder)
+            created.append(folder)
+        with tempfile.TemporaryFile(dir=target):
+            pass
+    except OSError as error:
+        raise UsageError(f"--report {shown(directory)}: cannot write there "
+                         f"({error.strerror or error})") from None
+    finally:
+        for folder in reversed(created):
+            try:
+                os.rmdir(folder)
+            except OSError:
+                pass
+
+
+def input_file_usable(option: str, path: str) -> None:
+    """A file to be read: a name the system refuses (too long, a file used as a folder) is a
+    one-line error naming the option; a missing file is left to the reader's own message."""
+    try:
+        os.stat(path)
+    except FileNotFoundError:
+        pass
+    except OSError as error:
+        raise UsageError(f"{option}{shown(path)}: {error.strerror or error}") from None
 
 
 def emit(args, result: dict, human: str) -> None:
@@ -143,6 +182,9 @@ def cmd_relations(args) -> int:
     from ringmatch.reports.formulas import presentation_text
     _check_settings(args, [args.presentation])
     family = resolve_family(args.presentation, args)
+    from .sizes import symbolic_estimate
+    size_guard(args, f"relations {args.case.name}",
+               symbolic_estimate(args.case, equivariant=not args.plain))
     presentation = build_symbolic(family, args.case, equivariant=not args.plain)
     print(presentation_text(presentation, latex=args.latex))
     return 0
@@ -157,6 +199,9 @@ def cmd_check(args) -> int:
         raise UsageError(f"--prime {args.prime} is too small for {args.case.n} distinct weights")
     if args.report is not None:
         report_directory_usable(args.report)
+    from .sizes import check_estimate
+    size_guard(args, f"check {args.case.name}",
+               check_estimate(args.case, args.method, args.order, args.trials, len(families)))
     result = check_case(args.case, families, seed=args.seed, prime=args.prime,
                         equivariant=not args.plain, order=args.order, trials=args.trials,
                         method=args.method)
@@ -185,9 +230,16 @@ def cmd_presentations(args) -> int:
                     "not_supported": [{"case": c, "reason": r} for c, r in result.skipped],
                     "problem": result.problem}, result.text())
         return 0 if result.conforms else 1
+    if args.case_file is None and (args.of is not None or args.plain):
+        raise UsageError(f"{'--of' if args.of is not None else '--plain'} only goes with "
+                         "--case-file CASE (it says how the case file is written)")
     if args.case_file is not None:
+        args.of = args.of or "whitney"
         _check_settings(args, [args.of])
         family = resolve_family(args.of, args)
+        from .sizes import symbolic_estimate
+        size_guard(args, f"presentations --case-file {args.case_file.name}",
+                   symbolic_estimate(args.case_file, equivariant=not args.plain))
         print(userfile.case_file_text(family, args.case_file, equivariant=not args.plain), end="")
         return 0
     lines = plugins.catalogue(FAMILIES, userfile.shipped_files())
@@ -219,6 +271,8 @@ def cmd_points(args) -> int:
         if len(line) != flag.m:
             raise UsageError(f"--q-line {args.q_line!r}: {flag.name} has {flag.m} q parameter(s), "
                              f"got {len(line)} coefficients")
+    from .sizes import points_estimate
+    size_guard(args, f"points {flag.name}", points_estimate(flag, args.order))
     try:
         lifted = random_line_points(flag, args.order, seed=args.seed, prime=prime,
                                     weights=weights, q_line=line)
@@ -238,6 +292,8 @@ def cmd_iso(args) -> int:
                          "primes are taken 2^32 apart below it)")
     _check_settings(args, [args.source, args.target])
     source, target = resolve_family(args.source, args), resolve_family(args.target, args)
+    from .sizes import iso_estimate
+    size_guard(args, f"iso {args.case.name}", iso_estimate(args.case, args.order))
     bounds = Bounds(max_degree=args.max_degree, max_terms=args.max_terms, order=args.order)
     try:
         result = find_isomorphism(args.case, source, target, bounds=bounds, seed=args.seed,
@@ -302,6 +358,7 @@ def _note_several_sweeps(store: str, selection: dict) -> None:
 def cmd_table(args) -> int:
     from ringmatch.reports.frames import SourceError
     from ringmatch.reports.tables import TableError, TableOptions, parse_columns, render
+    input_file_usable("results store ", args.store)
     selection, selection_words = _selection(args)
     words = ["table", args.store, "--format", args.format, *selection_words]
     words += ["--columns", args.columns] if args.columns else []
@@ -330,6 +387,7 @@ def cmd_table(args) -> int:
 def cmd_figure(args) -> int:
     from ringmatch.reports.figures import FigureError, agreement_map
     from ringmatch.reports.frames import SourceError
+    input_file_usable("results store ", args.store)
     selection, selection_words = _selection(args)
     words = ["figure", args.store, "--out", args.out, "--layout", args.layout, *selection_words]
     try:
@@ -339,9 +397,22 @@ def cmd_figure(args) -> int:
     except (SourceError, FigureError) as error:
         raise UsageError(str(error)) from None
     except OSError as error:
-        raise UsageError(f"--out {args.out!r}: {error.strerror or error}") from None
+        raise UsageError(f"--out {shown(args.out)}: {error.strerror or error}") from None
     print(f"figure: {path}", file=sys.stderr)
     return 0
+
+
+def _size_option(p) -> None:
+    from .sizes import OVERRIDE
+    p.add_argument(OVERRIDE, dest="no_size_limit", action="store_true",
+                   help="start even when the size estimate says it takes hours (never "
+                        "beyond the machine's memory)")
+
+
+def size_guard(args, subject: str, estimate) -> None:
+    """Refuse or announce by the size estimate, before anything is built."""
+    from .sizes import guard
+    guard(subject, estimate, allow_large=getattr(args, "no_size_limit", False))
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -359,6 +430,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
     p.add_argument("--latex", action="store_true", help="LaTeX instead of plain text")
     parameters.add_argument(p)
+    _size_option(p)
     p.set_defaults(run=cmd_relations)
 
     p = sub.add_parser("check", help="decide whether presentations of one case agree")
@@ -379,6 +451,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--report", metavar="DIR",
                    help="also write a Markdown and a JSON report of the case into DIR")
     parameters.add_argument(p)
+    _size_option(p)
     p.set_defaults(run=cmd_check)
 
     p = sub.add_parser("presentations",
@@ -387,7 +460,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--case-file", type=flag_argument, metavar="CASE",
                    help="instead of the list, print the presentation --of NAME for this flag "
                         "type as an editable case file")
-    p.add_argument("--of", default="whitney", metavar="NAME",
+    p.add_argument("--of", metavar="NAME",
                    help="presentation written by --case-file (name or file); default whitney")
     p.add_argument("--plain", action="store_true", help="with --case-file: all T_j = 1")
     p.add_argument("--check", metavar="NAME",
@@ -397,6 +470,7 @@ def build_parser() -> argparse.ArgumentParser:
                         "with the first problem")
     p.add_argument("--json", action="store_true", help="the list (or the --check result) as JSON")
     parameters.add_argument(p)
+    _size_option(p)
     p.set_defaults(run=cmd_presentations)
 
     p = sub.add_parser("points", help="lift the torus-fixed points to Bethe points in F_p[[s]]")
@@ -410,6 +484,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="number of coefficients N of every root (mod s^N); default 8")
     p.add_argument("--seed", type=int, help="seed for the random weights / line (recorded)")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    _size_option(p)
     p.set_defaults(run=cmd_points)
 
     p = sub.add_parser("table", help="one row per case of a results store (or .json of check "
@@ -476,6 +551,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     p.add_argument("--latex", action="store_true", help="formulas in LaTeX")
     parameters.add_argument(p)
+    _size_option(p)
     p.set_defaults(run=cmd_iso)
 
     from . import demo, sweep_command

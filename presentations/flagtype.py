@@ -96,6 +96,8 @@ def format_flag(flag: FlagType) -> str:
     return "Fl(" + ",".join(map(str, flag.dims)) + f";{flag.n})"
 
 
+MAX_COMPLETE_N = 100_000
+
 _NUMBER_LIST = r"\s*\d+\s*(?:,\s*\d+\s*)*"
 _PATTERNS = [
     ("partial", re.compile(rf"Fl\s*\(({_NUMBER_LIST});\s*(\d+)\s*\)")),
@@ -127,6 +129,9 @@ def _parse_flag(text: str) -> FlagType:
             n = int(match.group(1))
             if n < 2:
                 raise FlagTypeError(f"{text!r}: complete flags need n ≥ 2")
+            if n > MAX_COMPLETE_N:   # the dims tuple alone would fill the memory
+                raise FlagTypeError(f"{text!r}: complete flags are limited to n ≤ "
+                                    f"{MAX_COMPLETE_N}")
             return FlagType(tuple(range(1, n)), n)
         if kind == "grassmannian":
             k, n = int(match.group(1)), int(match.group(2))
@@ -138,5 +143,27 @@ def _parse_flag(text: str) -> FlagType:
     if re.fullmatch(r"Fl\s*\(\s*\d+\s*(,\s*\d+\s*)+\)", s):
         raise FlagTypeError(f"{text!r}: write the ambient dimension after a semicolon, "
                             "as in Fl(1,3;5)")
+    nearest = _nearest_spelling(s)
+    hint = f"; did you mean {nearest!r}?" if nearest else ""
     raise FlagTypeError(f"{text!r} is not a flag type; expected Fl(k_1,…,k_m;n), Fl(n), "
-                        "Gr(k;n), Gr(k,n) or Pn")
+                        f"Gr(k;n), Gr(k,n) or Pn{hint}")
+
+
+_PREFIXES = {"fl": "Fl", "gr": "Gr", "g": "Gr", "p": "P", "cp": "P"}
+
+
+def _nearest_spelling(s: str):
+    """The text with the usual slips mended (letter case of the prefix, other brackets,
+    spaces), when that is a valid case name; else None."""
+    mended = s.translate(str.maketrans("[]{}", "()()")).strip()
+    match = re.match(r"([A-Za-z]+)\s*(?=[(^\d])", mended)
+    if match and match.group(1).lower() in _PREFIXES:
+        mended = _PREFIXES[match.group(1).lower()] + mended[match.end():]
+    mended = re.sub(r"\s+", "", mended)
+    if mended == s:
+        return None
+    try:
+        _parse_flag(mended)
+    except FlagTypeError:
+        return None
+    return mended

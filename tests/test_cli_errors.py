@@ -31,3 +31,48 @@ def test_a_separate_process_sees_the_same():
     result = run_cli("check", "Gr(a,b)")
     assert result.returncode == 2 and result.stdout == ""
     assert result.stderr.startswith("ringmatch: ") and result.stderr.count("\n") == 1
+
+
+LONG = "a" * 300       # longer than a file name may be (255 bytes on common file systems)
+
+
+@pytest.mark.parametrize("args, fragment", [
+    # sizes are estimated before anything is built: one line with the estimate and, where
+    # the machine's memory allows the attempt at all, the option that overrides it
+    (["relations", "Fl(60)"], "relation terms"),
+    (["relations", "P30"], "not attempted"),
+    (["relations", "Fl(20)"], "--no-size-limit"),
+    (["presentations", "--case-file", "Fl(60)"], "relation terms"),
+    (["check", "Fl(60)"], "Bethe points"),
+    (["check", "Fl(12)"], "Bethe points"),
+    (["points", "Fl(12)"], "Bethe points"),
+    (["iso", "Fl(12)", "--from", "vieta", "--to", "whitney"], "linear systems"),
+    (["relations", "Fl(1000000)"], "n ≤ 100000"),
+    # files and folders the system refuses, named before any computing
+    (["check", "P1", "--report", "/proc/nope"], "--report '/proc/nope'"),
+    (["check", "P1", "--report", LONG], "File name too long"),
+    (["table", LONG], "results store"),
+    (["figure", LONG, "--out", "x.png"], "results store"),
+    # options that only go together
+    (["presentations", "--of", "vieta"], "--case-file"),
+    (["presentations", "--plain"], "--case-file"),
+    # a near miss of a case name gets the valid spelling
+    (["check", "gr(2,5)"], "did you mean 'Gr(2,5)'"),
+    (["relations", "fl[1,3;5]"], "did you mean 'Fl(1,3;5)'"),
+])
+def test_bad_requests_end_in_one_line(args, fragment, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    result = run_in_process(*args)
+    assert result.returncode == 2, result
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1, result.stderr
+    assert fragment in lines[0]
+    assert len(lines[0]) < 400              # a long name is shortened, not repeated whole
+    assert list(tmp_path.iterdir()) == []   # nothing written
+
+
+def test_a_report_folder_is_tried_but_not_left_behind_on_refusal(tmp_path):
+    folder = tmp_path / "new" / "report"
+    result = run_in_process("check", "Fl(60)", "--report", folder)
+    assert result.returncode == 2
+    assert not (tmp_path / "new").exists()
