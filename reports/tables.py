@@ -314,7 +314,7 @@ def latex_layout(table: Table, options: TableOptions) -> LatexLayout:
             headings.append(COLUMNS[key].latex_heading)
     align = "".join(COLUMNS[key].align for key in keys)
     cells = [[cell(key, r) for key in keys] for r in records]
-    caption = _latex_caption(table, options, facts, common)
+    caption = _latex_caption(table, options, facts, common, keys)
     if lettered:
         column = r"\emph{with}" if common else r"\emph{presentations}"
         caption += f" Column {column}: " + "; ".join(
@@ -338,20 +338,21 @@ def distinct_in_order(values) -> list:
 
 
 def _latex_caption(table: Table, options: TableOptions, facts: Sequence[str],
-                   common: Tuple[str, ...]) -> str:
+                   common: Tuple[str, ...], keys: Sequence[str] = ()) -> str:
     records = table.records
     first = records[0] if records else None
     if options.caption:
         sentences = [latex_escape(options.caption).rstrip(".") + "."]
+    elif first is None:
+        sentences = ["No cases."]
     else:
-        ring = r"$QK_T(X)$ or $QK(X)$ (column \emph{equiv.})"
-        if first is not None and _same(r["equivariant"] in (True, None) for r in records):
+        ring = r"$QK_T(X)$ or $QK(X)$ " + (r"(column \emph{equiv.})" if "equivariant" in keys
+                                            else "(equivariant and plain rows)")
+        if _same(r["equivariant"] in (True, None) for r in records):
             ring = ("$QK_T(X)$ (equivariant)" if first["equivariant"] in (True, None)
                     else "$QK(X)$ (plain: every $T_j = 1$)")
         what = f"Comparison of presentations of {ring}, one row per flag variety $X$"
-        if first is None:
-            pass
-        elif "presentations" in facts or _same(tuple(r["presentations"]) for r in records):
+        if "presentations" in facts or _same(tuple(r["presentations"]) for r in records):
             what += ": " + _names_latex(first["presentations"])
         elif common:
             what += (f": {_names_latex(common)} against the presentations in column "
