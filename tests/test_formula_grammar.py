@@ -3,8 +3,9 @@ written in the expression grammar of presentation files (docs/presentation-files
 pasting them into a file gives back the same polynomial.
 
 Outside sources: the quantum K Whitney relations (arXiv:2310.03826) are what the printed
-relations state; Wang's rational reconstruction (P. S. Wang, "A p-adic algorithm for
-univariate partial fractions", SYMSAC 1981) is what turns residues into fractions.
+relations state; rational reconstruction (P. S. Wang, "A p-adic algorithm for univariate
+partial fractions", SYMSAC 1981; reference recalled from memory) is what turns residues
+into fractions.
 """
 from __future__ import annotations
 
@@ -88,9 +89,9 @@ def test_witness_normal_forms_paste_back():
 
 
 def test_isomorphism_formulas_paste_back_up_to_the_unit_multiplied_through():
-    """Toda to Whitney on Fl(3): the formulas have the denominators 1 − q_i (the relativistic
-    Toda generators are ratios of determinants, arXiv:2310.03826 §1), which a file divides by
-    as units (docs/presentation-files.md, Division)."""
+    """Toda to Whitney on Fl(3): the formulas have the denominators 1 − q_i (the Toda
+    generators L_j = det S_j / det S_{j−1} against λ_1(Q_j); tests/test_iso.py checks the map
+    itself), which a file divides by as units (docs/presentation-files.md, Division)."""
     flag = parse_flag("Fl(3)")
     toda, whitney = get_family("toda"), get_family("whitney")
     result = iso.find_isomorphism(flag, toda, whitney, seed=2)
