@@ -68,9 +68,13 @@ def open_store(path) -> sqlite3.Connection:
             conn.execute("INSERT OR IGNORE INTO meta VALUES ('schema_version', ?)",
                          (str(SCHEMA_VERSION),))
         version = conn.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
+    except sqlite3.OperationalError as error:
+        if _cannot_write(error):
+            raise StoreError(f"{path}: a sweep cannot write there ({error})") from None
+        raise StoreError(f"{path}: not a ringmatch results store ({error})") from None
     except sqlite3.DatabaseError as error:
         raise StoreError(f"{path}: not a ringmatch results store ({error})") from None
-    if version is None or int(version[0]) != SCHEMA_VERSION:
+    if version is None or not str(version[0]).isdigit() or int(version[0]) != SCHEMA_VERSION:
         conn.close()
         raise StoreError(f"{path}: results store of schema version {version and version[0]}, "
                          f"this ringmatch reads version {SCHEMA_VERSION}")
@@ -142,10 +146,18 @@ def finished_cases(conn: sqlite3.Connection, settings: dict) -> set:
 
 
 def stored_rows(conn: sqlite3.Connection, settings: dict) -> dict:
-    """{case name: row dict} for these settings."""
-    rows = conn.execute(f"SELECT {', '.join(COLUMNS)} FROM results WHERE settings_key = ?",
-                        (settings_key(settings),))
-    return {row[0]: _row_dict(row) for row in rows}
+    """{case name: row dict} for these settings (StoreError naming a damaged row)."""
+    rows = conn.execute(f"SELECT rowid, {', '.join(COLUMNS)} FROM results "
+                        "WHERE settings_key = ?", (settings_key(settings),))
+    path = _database_path(conn)
+    return {row[1]: _checked_row(path, row) for row in rows}
+
+
+def _database_path(conn: sqlite3.Connection) -> str:
+    for _, name, file in conn.execute("PRAGMA database_list"):
+        if name == "main":
+            return file
+    return "results store"
 
 
 def save_result(conn: sqlite3.Connection, settings: dict, result: dict, seconds: float, *,
@@ -153,7 +165,10 @@ def save_result(conn: sqlite3.Connection, settings: dict, result: dict, seconds:
     flag = parse_flag(result["case"])
     names = [p["name"] for p in settings["presentations"]]
     finished = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="microseconds")
-    values = (flag.name, settings_key(settings), flag.n, flag.rank, case_kind(flag),
+    # SQLite integers have 64 bits; a larger rank (Fl(21) and up) is stored as text and
+    # read back from the flag type
+    rank = flag.rank if flag.rank < 2**63 else str(flag.rank)
+    values = (flag.name, settings_key(settings), flag.n, rank, case_kind(flag),
               json.dumps(list(flag.dims)), json.dumps(names), result["verdict"],
               result["reason"], float(seconds), json.dumps(settings, sort_keys=True),
               json.dumps(result), finished, json.dumps(run or run_record()))
@@ -166,9 +181,33 @@ COLUMNS = ("case_name", "settings_key", "n", "rank", "kind", "dims", "presentati
            "verdict", "reason", "seconds", "settings", "result", "finished_at", "run")
 
 
+def _checked_row(path, row) -> dict:
+    """The row dict of (rowid, *COLUMNS), or StoreError naming the file, row and fault."""
+    rowid, values = row[0], row[1:]
+    where = f"{path}: row {rowid} (case {values[0]!r})"
+    try:
+        record = _row_dict(values)
+    except (ValueError, TypeError, KeyError) as error:
+        raise StoreError(f"{where} is damaged ({type(error).__name__}: {error}); delete that "
+                         "row or use another --store") from None
+    result = record["result"]
+    problem = None
+    if not isinstance(result, dict) or not isinstance(result.get("certificate"), dict):
+        problem = "its result has no certificate"
+    elif not isinstance(record["reason"], str) or not isinstance(record["verdict"], str):
+        problem = "its verdict or reason is not text"
+    if problem:
+        raise StoreError(f"{where} is damaged ({problem}); delete that row or use another "
+                         "--store")
+    return record
+
+
 def _row_dict(row) -> dict:
     record = dict(zip(COLUMNS, row))
-    return {"case": record["case_name"], "n": record["n"], "rank": record["rank"],
+    rank = record["rank"]
+    if not isinstance(rank, int):     # stored as text: beyond SQLite's 64-bit integers
+        rank = FlagType(tuple(json.loads(record["dims"])), int(record["n"])).rank
+    return {"case": record["case_name"], "n": record["n"], "rank": rank,
             "kind": record["kind"], "dims": json.loads(record["dims"]),
             "presentations": json.loads(record["presentations"]),
             "verdict": record["verdict"], "reason": record["reason"],
@@ -186,14 +225,22 @@ def load_results(path) -> List[dict]:
     if not Path(path).is_file():
         raise StoreError(f"{path}: no such results store")
     # No schema is created here: a reader must never turn some other SQLite file into a
-    # store.  (Not mode=ro: a read-only reader of a WAL file leaves -wal/-shm files behind.)
+    # store.  (Not mode=ro first: a read-only reader of a WAL file leaves -wal/-shm files
+    # behind; only where nothing can be written, archived results, is it needed.)
     conn = sqlite3.connect(str(path), timeout=30)
     try:
-        tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+        try:
+            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+        except sqlite3.OperationalError as error:
+            if not _cannot_write(error):
+                raise
+            conn.close()
+            conn = _read_only_connection(path)
+            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
         if not {"meta", "results"} <= tables:
             raise StoreError(f"{path}: an SQLite file, but not a ringmatch results store")
-        rows = [_row_dict(row) for row in conn.execute(
-            f"SELECT {', '.join(COLUMNS)} FROM results")]
+        rows = [_checked_row(path, row) for row in conn.execute(
+            f"SELECT rowid, {', '.join(COLUMNS)} FROM results")]
     except StoreError:
         raise
     except sqlite3.DatabaseError as error:
@@ -201,3 +248,15 @@ def load_results(path) -> List[dict]:
     finally:
         conn.close()
     return sorted(rows, key=lambda row: (sweep_order(row), row["settings_key"]))
+
+
+def _cannot_write(error: sqlite3.OperationalError) -> bool:
+    text = str(error).lower()
+    return "readonly" in text or "read-only" in text or "unable to open" in text
+
+
+def _read_only_connection(path) -> sqlite3.Connection:
+    """A store in a folder nobody may write: immutable, so that SQLite needs no -shm file
+    (true there: no sweep can be writing to it)."""
+    uri = Path(path).resolve().as_uri() + "?mode=ro&immutable=1"
+    return sqlite3.connect(uri, uri=True, timeout=30)

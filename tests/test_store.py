@@ -122,3 +122,79 @@ def test_a_process_killed_inside_the_transaction_leaves_no_row(tmp_path, results
     assert [r["case"] for r in rows] == ["P1"]
     assert rows[0]["result"] == results["P1"]
     os.remove(path)
+
+
+def test_ranks_beyond_64_bits_are_stored_and_read_back(tmp_path, results):
+    """Fl(21) has 21! ≈ 5.1e19 fixed points, more than an SQLite integer holds."""
+    big = dict(results["P1"], case="Fl(21)", rank=parse_flag("Fl(21)").rank)
+    settings = store.sweep_settings(["whitney"])
+    conn = store.open_store(tmp_path / "s.db")
+    store.save_result(conn, settings, big, 1.0)
+    assert store.stored_rows(conn, settings)["Fl(21)"]["rank"] == 51090942171709440000
+    conn.close()
+    assert store.load_results(tmp_path / "s.db")[0]["rank"] == 51090942171709440000
+
+
+@pytest.mark.parametrize("damage, fragment", [
+    ("UPDATE results SET result = '{not json'", "JSONDecodeError"),
+    ("UPDATE results SET result = '{\"verdict\": \"inconclusive\"}'", "no certificate"),
+    ("UPDATE results SET result = 'null'", "no certificate"),
+    ("UPDATE results SET dims = '[1,'", "JSONDecodeError"),
+])
+def test_a_damaged_row_is_named_with_file_and_row(tmp_path, results, damage, fragment):
+    path = tmp_path / "s.db"
+    settings = store.sweep_settings(["whitney", "vieta"])
+    conn = store.open_store(path)
+    store.save_result(conn, settings, results["P1"], 1.0)
+    with conn:
+        conn.execute(damage)
+    with pytest.raises(store.StoreError) as caught:
+        store.stored_rows(conn, settings)
+    conn.close()
+    message = str(caught.value)
+    assert str(path) in message and "row 1 (case 'P1')" in message and fragment in message
+    with pytest.raises(store.StoreError, match="row 1"):
+        store.load_results(path)
+
+
+def test_a_schema_version_that_is_not_a_number_is_refused(tmp_path):
+    path = tmp_path / "s.db"
+    store.open_store(path).close()
+    conn = sqlite3.connect(path)
+    with conn:
+        conn.execute("UPDATE meta SET value = 'one' WHERE key = 'schema_version'")
+    conn.close()
+    with pytest.raises(store.StoreError, match="schema version one"):
+        store.open_store(path)
+
+
+def test_an_archived_store_is_read_without_writing(tmp_path, results):
+    """Where nothing may be written (a read-only folder), the store is opened immutable."""
+    path = tmp_path / "s.db"
+    conn = store.open_store(path)
+    store.save_result(conn, store.sweep_settings(["whitney", "vieta"]), results["P1"], 1.0)
+    conn.close()
+    before = sorted(p.name for p in tmp_path.iterdir())
+    reader = store._read_only_connection(path)
+    assert reader.execute("SELECT count(*) FROM results").fetchone()[0] == 1
+    with pytest.raises(sqlite3.OperationalError):
+        reader.execute("DELETE FROM results")
+    reader.close()
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+    assert store._cannot_write(sqlite3.OperationalError("attempt to write a readonly database"))
+
+
+@pytest.mark.skipif(not hasattr(os, "geteuid") or os.geteuid() == 0,
+                    reason="permissions do not bind root")
+def test_load_results_from_a_read_only_folder(tmp_path, results):
+    folder = tmp_path / "archive"
+    folder.mkdir()
+    conn = store.open_store(folder / "s.db")
+    store.save_result(conn, store.sweep_settings(["whitney", "vieta"]), results["P1"], 1.0)
+    conn.close()
+    (folder / "s.db").chmod(0o444)
+    folder.chmod(0o555)
+    try:
+        assert [r["case"] for r in store.load_results(folder / "s.db")] == ["P1"]
+    finally:
+        folder.chmod(0o755)
