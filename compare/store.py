@@ -139,6 +139,73 @@ def run_record(command: Optional[str] = None) -> dict:
             "versions": versions}
 
 
+# ---------------------------------------------------------------------------------------
+# One sweep at a time per store: otherwise two sweeps compute every case twice
+
+_CLAIM_KEY = "sweep_in_progress"
+
+
+def claim(conn: sqlite3.Connection, command: Optional[str] = None) -> None:
+    """Mark the store as used by this process's sweep; StoreError when another sweep that
+    is still alive uses it.  A mark left by a sweep that was killed is taken over."""
+    import os
+    import socket
+    mine = {"host": socket.gethostname(), "pid": os.getpid(),
+            "started": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
+            "command": run_record(command)["command"]}
+    path = _database_path(conn)
+    conn.execute("BEGIN IMMEDIATE")      # check and mark in one step: two sweeps may race
+    try:
+        row = conn.execute("SELECT value FROM meta WHERE key = ?", (_CLAIM_KEY,)).fetchone()
+        other = _claim_record(row[0]) if row else None
+        if other is not None and _alive(other, mine):
+            raise StoreError(
+                f"{path}: in use by another sweep (pid {other.get('pid')} on "
+                f"{other.get('host')}, started {other.get('started')}); wait for it to end or "
+                "use another --store")
+        conn.execute("INSERT OR REPLACE INTO meta VALUES (?, ?)", (_CLAIM_KEY, json.dumps(mine)))
+        conn.execute("COMMIT")
+    except BaseException:
+        conn.execute("ROLLBACK")
+        raise
+
+
+def release(conn: sqlite3.Connection) -> None:
+    import os
+    try:
+        with conn:
+            row = conn.execute("SELECT value FROM meta WHERE key = ?", (_CLAIM_KEY,)).fetchone()
+            record = _claim_record(row[0]) if row else None
+            if record is not None and record.get("pid") == os.getpid():
+                conn.execute("DELETE FROM meta WHERE key = ?", (_CLAIM_KEY,))
+    except sqlite3.Error:
+        pass     # a mark left behind is taken over by the next sweep once this one is gone
+
+
+def _claim_record(text) -> Optional[dict]:
+    try:
+        record = json.loads(text)
+    except (TypeError, ValueError):
+        return None
+    return record if isinstance(record, dict) else None
+
+
+def _alive(other: dict, mine: dict) -> bool:
+    import os
+    if other.get("host") != mine["host"]:
+        return True      # cannot be checked from here; assume it runs
+    pid = other.get("pid")
+    if not isinstance(pid, int) or pid == mine["pid"]:
+        return False
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
 def finished_cases(conn: sqlite3.Connection, settings: dict) -> set:
     rows = conn.execute("SELECT case_name FROM results WHERE settings_key = ?",
                         (settings_key(settings),))

@@ -229,11 +229,17 @@ def _set_memory_limit(memory_mib: int) -> None:
     resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
 
 
-def _silence_output() -> None:
+def _silence_output(output: Optional[str] = None) -> None:
     # The sweep's stdout carries its report (e.g. --json); a worker must not write into it.
     # FLINT prints its allocation failures to stdout before aborting, so redirect the file
-    # descriptors, not only sys.stdout.
-    devnull = os.open(os.devnull, os.O_WRONLY)
+    # descriptors, not only sys.stdout — into a file the sweep reads when the worker dies
+    # without a result, to say what happened.
+    try:
+        devnull = os.open(output, os.O_WRONLY | os.O_APPEND) if output else -1
+    except OSError:
+        devnull = -1
+    if devnull < 0:
+        devnull = os.open(os.devnull, os.O_WRONLY)
     for fd in (1, 2):
         try:
             os.dup2(devnull, fd)
@@ -242,12 +248,16 @@ def _silence_output() -> None:
     os.close(devnull)
 
 
-def child_main(writer, task: CaseTask, memory_mib: Optional[int]) -> None:
+def child_main(writer, task: CaseTask, memory_mib: Optional[int],
+               output: Optional[str] = None) -> None:
     from ringmatch.presentations.interface import PresentationError
     from ringmatch.presentations.userfile import PresentationFileError
     signal.signal(signal.SIGINT, signal.SIG_IGN)   # the parent handles Ctrl-C and kills us
     _die_with_parent()
-    _silence_output()
+    _silence_output(output)
+    import faulthandler
+    if faulthandler.is_enabled():    # into the output file too, not into the sweep's stderr
+        faulthandler.enable(file=sys.stderr)
     if memory_mib:
         _set_memory_limit(memory_mib)
     try:
@@ -265,23 +275,43 @@ def child_main(writer, task: CaseTask, memory_mib: Optional[int]) -> None:
     writer.close()
 
 
-def outcome_result(task: CaseTask, limits: Limits, message, exitcode) -> dict:
-    """The stored result for what a worker sent back (or for its death)."""
+CRASHED = "crashed:"
+FAILED_ATTEMPTS = 3        # crashes or errors of one case before it is no longer retried
+RETRY_OPTION = "--retry-failed"
+
+
+def outcome_result(task: CaseTask, limits: Limits, message, exitcode,
+                   output: str = "") -> dict:
+    """The stored result for what a worker sent back (or for its death; `output` is the
+    end of what it printed, where FLINT says why it aborted)."""
     if message is not None and message[0] == "ok":
         message[1]["certificate"]["limits"] = limits.record()
         return message[1]
+    flint_out_of_memory = message is None and "allocate" in output.lower()
     if message is not None and message[0] == "memory" or \
-            message is None and limits.memory_mib and exitcode not in (0, None):
+            flint_out_of_memory and limits.memory_mib:
         reason = f"limit: out of memory under --case-memory {limits.memory_mib} MiB"
         if message is None:
-            reason += f" (worker ended with {_exit_text(exitcode)})"
+            reason += f" (FLINT could not allocate; worker ended with {_exit_text(exitcode)})"
         return undecided_result(task, reason, limits)
+    if message is None:      # a crash or an outside kill: said as such, and computed again
+        last = _crash_line(output)
+        return undecided_result(task, f"{CRASHED} worker ended with {_exit_text(exitcode)} "
+                                      "without a result" + (f" ({last})" if last else ""),
+                                limits)
     if message is not None and message[0] == "presentation":
         return undecided_result(task, f"presentation error: {message[1]}", limits)
     if message is not None:
         return undecided_result(task, f"error: {message[1]}", limits)
     return undecided_result(task, f"error: worker ended with {_exit_text(exitcode)} "
                                   "without a result", limits)
+
+
+def _crash_line(output: str) -> str:
+    """What FLINT or Python said about a crash, if anything (not a stack dump)."""
+    lines = [line.strip() for line in output.splitlines()]
+    said = [line for line in lines if line.startswith("Fatal Python error") or "FLINT" in line]
+    return said[-1][:200] if said else ""
 
 
 def _exit_text(exitcode) -> str:
@@ -309,17 +339,46 @@ class Running:
     reader: object
     started: float
     deadline: Optional[float]
+    output: Optional[str] = None       # file of the worker's stdout and stderr
+
+
+def _output_file() -> Optional[str]:
+    import tempfile
+    try:
+        handle, path = tempfile.mkstemp(prefix="ringmatch-case-", suffix=".out")
+    except OSError:
+        return None
+    os.close(handle)
+    return path
+
+
+def _read_and_remove(path: Optional[str]) -> str:
+    if path is None:
+        return ""
+    try:
+        with open(path, "rb") as handle:
+            handle.seek(0, os.SEEK_END)
+            handle.seek(max(0, handle.tell() - 4096))
+            text = handle.read().decode("utf-8", "replace")
+    except OSError:
+        text = ""
+    try:
+        os.unlink(path)
+    except OSError:
+        pass
+    return text
 
 
 def start_case(context, index: int, task: CaseTask, limits: Limits) -> Running:
     reader, writer = context.Pipe(duplex=False)
-    process = context.Process(target=child_main, args=(writer, task, limits.memory_mib),
+    output = _output_file()
+    process = context.Process(target=child_main, args=(writer, task, limits.memory_mib, output),
                               daemon=True)
     started = time.monotonic()
     process.start()
     writer.close()
     deadline = started + limits.seconds if limits.seconds else None
-    return Running(index, task, process, reader, started, deadline)
+    return Running(index, task, process, reader, started, deadline, output)
 
 
 def finish_case(running: Running, limits: Limits) -> Tuple[dict, float]:
@@ -333,13 +392,16 @@ def finish_case(running: Running, limits: Limits) -> Tuple[dict, float]:
     running.process.join()
     running.reader.close()
     seconds = time.monotonic() - running.started
-    return outcome_result(running.task, limits, message, running.process.exitcode), seconds
+    output = _read_and_remove(running.output)
+    return outcome_result(running.task, limits, message, running.process.exitcode,
+                          output), seconds
 
 
 def kill_case(running: Running) -> float:
     running.process.kill()
     running.process.join()
     running.reader.close()
+    _read_and_remove(running.output)
     return time.monotonic() - running.started
 
 
@@ -528,30 +590,52 @@ def plan_sweep(flags: Sequence[FlagType], names: Sequence[str], *, seed: int, pr
     return SweepPlan(kept, skipped, settings, sources)
 
 
-def needs_computing(row: dict, limits: Limits) -> bool:
+def needs_computing(row: dict, limits: Limits, retry_failed: bool = False) -> bool:
     reason = row["reason"]
-    if reason.startswith("error:"):
-        return True
+    if reason.startswith(("error:", CRASHED)):
+        return retry_failed or failed_attempts(row["result"]) < FAILED_ATTEMPTS
     if reason.startswith("limit:"):
         return row["result"]["certificate"].get("limits") != limits.record()
     return False
 
 
+def failed_attempts(result: dict) -> int:
+    return int(result.get("certificate", {}).get("failed_attempts", 1))
+
+
+def count_failure(result: dict, previous: Optional[dict]) -> dict:
+    """A crash or error result, with how often this case has failed so far; at the bound,
+    the reason says that it is not retried and how to retry it."""
+    if not result["reason"].startswith(("error:", CRASHED)):
+        return result
+    attempts = 1
+    if previous is not None and previous["reason"].startswith(("error:", CRASHED)):
+        attempts = failed_attempts(previous["result"]) + 1
+    result["certificate"]["failed_attempts"] = attempts
+    if attempts >= FAILED_ATTEMPTS:
+        result["reason"] += (f"; failed {attempts} times, not computed again (run the sweep "
+                             f"with {RETRY_OPTION} to try again)")
+    return result
+
+
 def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits = Limits(),
               stop_at_first: bool = False, cluster: Optional[str] = None,
               progress: Optional[Callable[[int, int, float, str], None]] = None,
-              command: Optional[str] = None) -> SweepOutcome:
+              command: Optional[str] = None, retry_failed: bool = False) -> SweepOutcome:
     """Take finished cases from the store, compute the others, store each as it ends."""
     settings = plan.settings
     outcome = SweepOutcome(plan)
     started = time.monotonic()
     conn = store.open_store(store_path)
+    claimed = False
     try:
+        store.claim(conn, command)
+        claimed = True
         stored = store.stored_rows(conn, settings)
         todo: List[Tuple[int, CaseTask]] = []
         for index, flag in enumerate(plan.flags):
             row = stored.get(flag.name)
-            if row is not None and not needs_computing(row, limits):
+            if row is not None and not needs_computing(row, limits, retry_failed):
                 outcome.results[flag.name] = row["result"]
                 outcome.seconds[flag.name] = row["seconds"]
                 outcome.from_store.append(flag.name)
@@ -565,14 +649,16 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
 
         def finished(index: int, result: dict, seconds: float) -> Optional[int]:
             nonlocal done
-            store.save_result(conn, settings, result, seconds, run=run)
             name = plan.flags[index].name
+            result = count_failure(result, stored.get(name))
+            store.save_result(conn, settings, result, seconds, run=run)
             outcome.results[name] = result
             outcome.seconds[name] = seconds
             outcome.computed.append(name)
             done += 1
             if progress:
-                progress(done, total, time.monotonic() - started, name)
+                progress(done, total, time.monotonic() - started,
+                         f"{name} {result['verdict']}")
             if stop_at_first and result["verdict"] == "disagree":
                 return index
             return None
@@ -585,6 +671,8 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
             else:
                 run_local(todo, limits, max(1, workers), finished)
     finally:
+        if claimed:
+            store.release(conn)
         conn.close()
     if stop_at_first and outcome.first_counterexample is not None:
         last = plan.flags.index(parse_flag(outcome.first_counterexample))

@@ -277,3 +277,56 @@ def test_dask_cluster_gives_the_same_results_as_local_workers(tmp_path):
     assert [comparable(r) for r in remote.ordered_results()] == \
         [comparable(r) for r in local.ordered_results()]
     assert len(store.load_results(tmp_path / "dask.db")) == 3
+
+
+# ---------------------------------------------------------------------------------------
+# Crashed workers, and one sweep per store
+
+def _segfault(task):
+    import os
+    os.kill(os.getpid(), signal.SIGSEGV)
+
+
+def test_a_crashed_worker_is_recorded_as_such_and_retried_a_bounded_number_of_times(
+        tmp_path, monkeypatch):
+    """A worker dying without a message is a crash (with its signal), not "out of memory",
+    even under --case-memory; it is computed again on resume, up to a bound."""
+    monkeypatch.setattr(sweep, "run_case", _segfault)     # forked workers inherit it
+    p, path = plan("P1"), tmp_path / "s.db"
+    limits = sweep.Limits(memory_mib=2000)
+    reasons = []
+    for _ in range(sweep.FAILED_ATTEMPTS + 1):
+        outcome = sweep.run_sweep(p, path, limits=limits)
+        reasons.append(outcome.results["P1"]["reason"])
+        assert outcome.results["P1"]["verdict"] == "inconclusive"
+    assert reasons[0].startswith("crashed: worker ended with signal SIGSEGV without a result")
+    assert "out of memory" not in reasons[0]
+    assert "failed 3 times" in reasons[2] and sweep.RETRY_OPTION in reasons[2]
+    assert reasons[3] == reasons[2]                        # no longer computed
+    assert sweep.run_sweep(p, path, limits=limits).computed == []
+    assert sweep.run_sweep(p, path, limits=limits, retry_failed=True).computed == ["P1"]
+    monkeypatch.undo()
+    assert sweep.run_sweep(p, path, retry_failed=True).results["P1"]["verdict"] == "agree"
+
+
+def test_a_store_in_use_by_a_live_sweep_is_refused_and_a_dead_ones_mark_taken_over(tmp_path):
+    path = tmp_path / "s.db"
+    other = subprocess.Popen([sys.executable, "-c", "import time; time.sleep(60)"])
+    try:
+        conn = store.open_store(path)
+        with conn:
+            conn.execute("INSERT INTO meta VALUES ('sweep_in_progress', ?)", (json.dumps(
+                {"host": __import__("socket").gethostname(), "pid": other.pid,
+                 "started": "now", "command": "ringmatch sweep"}),))
+        conn.close()
+        with pytest.raises(store.StoreError, match=f"in use by another sweep \\(pid {other.pid}"):
+            sweep.run_sweep(plan("P1"), path)
+    finally:
+        other.kill()
+        other.wait()
+    outcome = sweep.run_sweep(plan("P1"), path)         # that sweep is gone: taken over
+    assert outcome.computed == ["P1"]
+    conn = store.open_store(path)
+    assert conn.execute("SELECT count(*) FROM meta WHERE key = 'sweep_in_progress'"
+                        ).fetchone()[0] == 0            # and released at the end
+    conn.close()
