@@ -319,3 +319,18 @@ def test_reports_repeat_the_values(tmp_path):
                      "--set", "sign=-1", "--report", str(tmp_path))
     assert result.returncode == 0, result.stderr
     assert "--set sign=-1" in (tmp_path / "P1.md").read_text()
+
+
+def test_sweep_values_are_part_of_the_store_key(tmp_path):
+    store = str(tmp_path / "runs.db")
+    base = ["sweep", "--cases", "P1", "--presentations", "whitney,whitney-unknowns",
+            "--store", store, "--workers", "1", "--json"]
+    first = run_cli(*base, "--set", "sign=-1")
+    assert first.returncode == 0, first.stderr
+    data = json.loads(first.stdout)
+    assert data["counts"] == {"disagree": 1} and data["from_store"] == []
+    assert data["settings"]["presentations"][1]["name"] == "whitney-unknowns[sign=-1,power=1]"
+    second = json.loads(run_cli(*base).stdout)          # the defaults: another key
+    assert second["counts"] == {"agree": 1} and second["from_store"] == []
+    third = json.loads(run_cli(*base, "--set", "sign=-1").stdout)
+    assert third["from_store"] == ["P1"]
