@@ -200,11 +200,9 @@ def cmd_check(args) -> int:
     if args.report is not None:
         report_directory_usable(args.report)
     from .sizes import check_estimate
-    size_guard(args, f"check {args.case.name}",
-               check_estimate(args.case, args.method, args.order, args.trials, len(families)))
-    result = check_case(args.case, families, seed=args.seed, prime=args.prime,
-                        equivariant=not args.plain, order=args.order, trials=args.trials,
-                        method=args.method)
+    estimate = check_estimate(args.case, args.method, args.order, args.trials, len(families))
+    size_guard(args, f"check {args.case.name}", estimate)
+    result = limited_check(args, families, estimate.seconds)
     emit(args, result, check_text(result))
     if args.report is not None:
         from ringmatch.reports.discrepancy import reproduce_command, write_report
@@ -215,6 +213,36 @@ def cmd_check(args) -> int:
                              families={f.name: f for f in families})
         print("report: " + " and ".join(map(str, paths)), file=sys.stderr)
     return 0
+
+
+def limited_check(args, families, estimated_seconds: float) -> dict:
+    """check_case under --case-timeout/--case-memory, with a line per stage on stderr when
+    a person may be waiting (a terminal, or an estimate of more than a few seconds)."""
+    import random
+    from .engine import check_case
+    from .limited import Stopped, run_limited, stage_lines
+    seed = args.seed if args.seed is not None else random.SystemRandom().randrange(2**32)
+
+    def work():
+        return check_case(args.case, families, seed=seed, prime=args.prime,
+                          equivariant=not args.plain, order=args.order, trials=args.trials,
+                          method=args.method)
+    show = sys.stderr.isatty() or estimated_seconds > 10
+    with stage_lines(f"check {args.case.name}", enabled=show):
+        try:
+            result = run_limited(work, seconds=args.case_timeout, memory_mib=args.case_memory)
+        except OSError as error:
+            raise UsageError(str(error)) from None
+    if isinstance(result, Stopped):
+        limits = {"seconds": args.case_timeout, "memory_mib": args.case_memory}
+        result = {"case": args.case.name, "rank": args.case.rank,
+                  "equivariant": not args.plain, "verdict": "inconclusive",
+                  "reason": result.reason,
+                  "certificate": {"prime": args.prime, "seed": seed, "order": args.order,
+                                  "method": args.method, "trials": [], "exact": False,
+                                  "kind": "not computed", "limits": limits},
+                  "presentations": {}, "pairs": [], "timings": {}}
+    return result
 
 
 def cmd_presentations(args) -> int:
@@ -448,6 +476,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--method", choices=METHODS, default="auto",
                    help="auto: Gröbner bases up to colength 150, Bethe points always")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
+    from .sweep_command import _positive_float
+    p.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
+                   help="stop after this many seconds: inconclusive (limit), as in a sweep")
+    p.add_argument("--case-memory", type=positive_int, metavar="MiB",
+                   help="memory the computation may allocate; beyond it, inconclusive (limit)")
     p.add_argument("--report", metavar="DIR",
                    help="also write a Markdown and a JSON report of the case into DIR")
     parameters.add_argument(p)

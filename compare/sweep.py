@@ -19,8 +19,11 @@ task again runs its case in a child process with the same limits where the worke
 that, and the store stays on this machine.
 
 Resuming.  Finished cases are stored one transaction each (compare/store.py); a sweep run
-again with the same settings takes them from the store.  Rows stored as "error: …" are
-computed again; rows stored as "limit: …" are computed again only under different limits.
+again with the same settings takes them from the store.  Rows stored as "error: …" (an
+exception in the worker) or "crashed: …" (it died without a result: the signal or exit
+status, and what FLINT or Python last said) are computed again, up to FAILED_ATTEMPTS times
+in all unless --retry-failed; rows stored as "limit: …" are computed again only under
+different limits.  One sweep at a time uses a store (`store.claim`).
 """
 from __future__ import annotations
 
@@ -742,6 +745,26 @@ class Progress:
             self.stream.write("\n")
             self.stream.flush()
             self.open_line = False
+
+
+@dataclass
+class LineProgress:
+    """One line per finished case, for a log file or a pipe, where a redrawn bar is noise."""
+    stream: object
+
+    def __call__(self, done: int, total: int, elapsed: float, last: str) -> None:
+        if done:
+            self.stream.write(f"[{done}/{total}] {last} ({_clock(elapsed)} elapsed)\n")
+            self.stream.flush()
+
+    def close(self) -> None:
+        pass
+
+
+def sweep_progress(stream=None):
+    """The bar on a terminal, one line per finished case elsewhere."""
+    stream = stream if stream is not None else sys.stderr
+    return Progress(stream) if stream.isatty() else LineProgress(stream)
 
 
 def terminal_progress(stream=None) -> Optional[Progress]:

@@ -6,6 +6,7 @@ text (reports/sweeps.py), so that neither of those imports the command line.
 from __future__ import annotations
 
 import sqlite3
+import sys
 from typing import List
 
 from ringmatch.errors import UsageError
@@ -14,7 +15,7 @@ from ringmatch.reports.sweeps import summary_text
 
 from . import store
 from .sweep import (DEFAULT_STORE, KINDS, MAX_SWEEP_N, Limits, available_cores, enumerate_cases,
-                    outcome_json, parse_case_list, plan_sweep, run_sweep, terminal_progress)
+                    outcome_json, parse_case_list, plan_sweep, run_sweep, sweep_progress)
 
 
 def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
@@ -26,8 +27,9 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
                         help="smallest ambient dimension n; default 2")
     parser.add_argument("--max-rank", type=positive_int, metavar="R",
                         help="only flag types of rank (number of fixed points) ≤ R")
-    parser.add_argument("--kind", choices=KINDS,
-                        help="grassmannian, complete, or partial (= every flag type; default)")
+    parser.add_argument("--kind", choices=CLI_KINDS,
+                        help="all (every flag type; default), grassmannian, complete, or "
+                             "partial (neither a Grassmannian nor a complete flag variety)")
     parser.add_argument("--cases", metavar="'CASE;CASE;…'",
                         help="explicit cases instead of --kind/--max-n, e.g. 'Gr(2,4);Fl(3)'")
     parser.add_argument("--presentations", type=presentation_list,
@@ -42,7 +44,7 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
                         help="a case running longer is stored as inconclusive (limit)")
     parser.add_argument("--case-memory", type=positive_int, metavar="MiB",
                         help="memory a case may allocate; beyond it, inconclusive (limit)")
-    parser.add_argument("--cluster", metavar="ADDRESS",
+    parser.add_argument("--cluster", metavar="ADDRESS", type=cluster_address,
                         help="run the cases on a Dask distributed cluster, e.g. "
                              "tcp://127.0.0.1:8786 (the store stays here)")
     parser.add_argument("--stop-at-first", action="store_true",
@@ -56,8 +58,29 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
     parser.add_argument("--trials", type=positive_int, default=1)
     from .engine import METHODS
     parser.add_argument("--method", choices=METHODS, default="auto")
+    from .sweep import FAILED_ATTEMPTS, RETRY_OPTION
+    parser.add_argument(RETRY_OPTION, dest="retry_failed", action="store_true",
+                        help=f"compute again the cases that crashed or failed "
+                             f"{FAILED_ATTEMPTS} times (otherwise left as stored)")
     parser.add_argument("--json", action="store_true",
                         help="one JSON object at the end: cases, first_counterexample, counts")
+
+
+CLI_KINDS = ("all", *KINDS)
+
+
+def cluster_address(text: str) -> str:
+    """A Dask scheduler address, [PROTOCOL://]HOST:PORT, checked here so that a typo is one
+    line rather than an error from inside the cluster library."""
+    import argparse
+    import re
+    match = re.fullmatch(r"(?:([a-z][a-z0-9+.-]*)://)?(\[[0-9a-fA-F:.]+\]|[A-Za-z0-9._-]+):(\d+)",
+                         text.strip())
+    if not match or not 0 < int(match.group(3)) < 65536:
+        raise argparse.ArgumentTypeError(
+            f"{text!r} is not a scheduler address; expected HOST:PORT or "
+            "PROTOCOL://HOST:PORT, e.g. tcp://127.0.0.1:8786")
+    return text.strip()
 
 
 def _positive_float(text: str) -> float:
@@ -87,7 +110,12 @@ def flags_from_arguments(args) -> List[FlagType]:
         raise UsageError(f"--max-n {args.max_n}: at most {MAX_SWEEP_N}")
     if args.min_n > args.max_n:
         raise UsageError(f"--min-n {args.min_n} is larger than --max-n {args.max_n}")
-    flags = enumerate_cases(args.kind or "partial", args.max_n, args.min_n, args.max_rank)
+    kind = args.kind or "all"
+    # the sweep machinery's "partial" is every flag type; on the command line that is "all"
+    flags = enumerate_cases("partial" if kind in ("all", "partial") else kind, args.max_n,
+                            args.min_n, args.max_rank)
+    if kind == "partial":
+        flags = [f for f in flags if not f.is_grassmannian and not f.is_complete]
     if not flags:
         raise UsageError(f"no flag type with {args.min_n} ≤ n ≤ {args.max_n}"
                          + (f" and rank ≤ {args.max_rank}" if args.max_rank else ""))
@@ -111,11 +139,18 @@ def command(args) -> int:
                       equivariant=not args.plain, order=args.order, trials=args.trials,
                       method=args.method, values=values)
     limits = Limits(args.case_timeout, args.case_memory)
-    progress = terminal_progress()
+    progress = sweep_progress()
     try:
         outcome = run_sweep(plan, args.store, workers=args.workers, limits=limits,
                             stop_at_first=args.stop_at_first, cluster=args.cluster,
-                            progress=progress)
+                            progress=progress, retry_failed=args.retry_failed)
+    except KeyboardInterrupt:
+        if progress is not None:
+            progress.close()
+        print(f"ringmatch: interrupted; {_stored_count(plan, args.store)} of {len(plan.flags)} "
+              f"case(s) of this sweep are stored in {args.store}; resume with: "
+              f"{_resume_command()}", file=sys.stderr)
+        return 130
     except store.StoreError as error:
         raise UsageError(f"--store {error}") from None
     except Exception as error:
@@ -134,6 +169,23 @@ def command(args) -> int:
         print(summary_text(outcome, store_path=args.store, cluster=args.cluster,
                            workers=args.workers))
     return 0
+
+
+def _stored_count(plan, store_path) -> int:
+    try:
+        conn = store.open_store(store_path)
+        try:
+            return len(store.finished_cases(conn, plan.settings) & {f.name for f in plan.flags})
+        finally:
+            conn.close()
+    except (sqlite3.Error, OSError):
+        return 0
+
+
+def _resume_command() -> str:
+    """The command as given: run again, it takes the stored cases and computes the rest."""
+    import shlex
+    return shlex.join(["ringmatch", *sys.argv[1:]])
 
 
 def _is_connection_error(error: Exception) -> bool:

@@ -76,3 +76,12 @@ def test_a_report_folder_is_tried_but_not_left_behind_on_refusal(tmp_path):
     result = run_in_process("check", "Fl(60)", "--report", folder)
     assert result.returncode == 2
     assert not (tmp_path / "new").exists()
+
+
+@pytest.mark.parametrize("address", ["a,b", "1,,2", "tcp://host", "host:99999", ""])
+def test_a_malformed_cluster_address_is_one_line(address, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    result = run_in_process("sweep", "--cases", "P1", "--cluster", address)
+    assert result.returncode == 2
+    assert result.stderr.count("\n") == 1 and "scheduler address" in result.stderr
+    assert list(tmp_path.iterdir()) == []      # no store created

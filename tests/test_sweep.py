@@ -212,7 +212,10 @@ def test_json_output_has_cases_first_counterexample_and_counts(tmp_path):
     finished = ringmatch("sweep", "--cases", "Gr(2,4);P1", "--presentations",
                          "whitney,vieta", "--store", str(tmp_path / "s.db"), "--json")
     assert finished.returncode == 0, finished.stderr
-    assert finished.stderr == ""                         # no progress bar off a terminal
+    # off a terminal no bar is redrawn: one line per finished case, on stderr
+    lines = finished.stderr.splitlines()
+    assert [line.split()[0] for line in lines] == ["[1/2]", "[2/2]"]
+    assert sorted(line.split()[1:3] for line in lines) == [["Gr(2;4)", "agree"], ["P1", "agree"]]
     report = json.loads(finished.stdout)
     assert [r["case"] for r in report["cases"]] == ["P1", "Gr(2;4)"]
     assert report["first_counterexample"] is None
@@ -330,3 +333,45 @@ def test_a_store_in_use_by_a_live_sweep_is_refused_and_a_dead_ones_mark_taken_ov
     assert conn.execute("SELECT count(*) FROM meta WHERE key = 'sweep_in_progress'"
                         ).fetchone()[0] == 0            # and released at the end
     conn.close()
+
+
+def test_kind_all_is_every_flag_type_and_partial_the_proper_partial_ones(tmp_path):
+    from ringmatch.compare.sweep_command import flags_from_arguments
+    from ringmatch.compare.cli import build_parser
+
+    def names(*words):
+        args = build_parser().parse_args(["sweep", "--max-n", "4", *words])
+        return [f.name for f in flags_from_arguments(args)]
+    assert names() == names("--kind", "all") and len(names()) == 1 + 3 + 7
+    assert names("--kind", "partial") == ["Fl(1,2;4)", "Fl(1,3;4)", "Fl(2,3;4)"]
+
+
+def test_without_a_terminal_each_finished_case_is_one_line():
+    lines = io.StringIO()
+    show = sweep.sweep_progress(lines)
+    show(0, 2, 0.0, "")
+    show(1, 2, 1.0, "P1 agree")
+    show(2, 2, 2.0, "P2 agree")
+    assert lines.getvalue().splitlines() == ["[1/2] P1 agree (0:01 elapsed)",
+                                             "[2/2] P2 agree (0:02 elapsed)"]
+
+
+def test_ctrl_c_says_what_is_stored_and_how_to_resume(tmp_path):
+    words = ["sweep", "--cases", "P1;P2;Gr(2,4);Fl(4);Gr(2,5);Fl(1,3;5);Fl(5)", "--workers",
+             "1", "--presentations", "whitney,vieta,bethe", "--store", str(tmp_path / "s.db")]
+    process = subprocess.Popen([sys.executable, "-m", "ringmatch.compare.cli", *words],
+                               cwd=ROOT, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                               text=True)
+    first = process.stderr.readline()          # a case finished: the sweep is under way
+    assert first.startswith("[1/7]"), first
+    process.send_signal(signal.SIGINT)
+    rest = process.stderr.read()
+    process.wait(timeout=120)
+    assert process.returncode == 130
+    message = [line for line in rest.splitlines() if "interrupted" in line]
+    assert len(message) == 1 and "Traceback" not in rest
+    assert "of 7 case(s) of this sweep are stored in" in message[0]
+    assert message[0].endswith("resume with: ringmatch " + " ".join(
+        __import__("shlex").quote(w) for w in words))
+    assert "sweep_in_progress" not in str(store.open_store(tmp_path / "s.db").execute(
+        "SELECT key FROM meta").fetchall())
