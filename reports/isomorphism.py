@@ -198,8 +198,8 @@ def as_text(result: IsoResult, *, latex: bool = False,
         degree_text = f"monomials of degree ≤ {bounds['max_degree']}"
     else:
         degree_text = (f"monomials searched degree by degree until found (reached "
-                       f"{result.forward.searched_degree} for the map, "
-                       f"{result.backward.searched_degree} for the inverse)")
+                       f"{_reached(result.forward.searched_degree)} for the map, "
+                       f"{_reached(result.backward.searched_degree)} for the inverse)")
     lines += ["", f"bounds: {degree_text}; sparsest supports up to {bounds['max_terms']} terms; "
                   f"order s^{bounds['order']}; 1/e_n(T) up to {bounds['t_pole_extra']} power(s) "
                   f"beyond the least; up to {bounds['max_primes']} primes"]
@@ -217,3 +217,8 @@ def as_text(result: IsoResult, *, latex: bool = False,
         lines.append(f"  {rebuilt['height_bound']}")
     lines.append(f"  ({certificate.get('kind')}: random specialisations; --json for all of it)")
     return "\n".join(lines)
+
+
+def _reached(degree) -> str:
+    # a direction is not searched at all when the other one already failed
+    return "not searched" if degree is None else f"degree {degree}"

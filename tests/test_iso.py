@@ -240,3 +240,17 @@ def test_iso_bad_input_is_one_line_exit_2(args, fragment):
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and fragment in lines[0], result.stderr
     assert "Traceback" not in result.stderr
+
+
+def test_a_direction_never_searched_is_said_so_not_printed_as_none():
+    from ringmatch.compare.iso import Direction, IsoResult
+    from ringmatch.reports.isomorphism import as_text
+    forward = Direction("a", "b", ("x",), ("y",), failure="y not expressed", searched_degree=3)
+    backward = Direction("b", "a", ("y",), ("x",))          # not searched: forward failed
+    result = IsoResult("P1", "a", "b", False, False, "none within bounds", "y not expressed",
+                       forward, backward,
+                       {"max_degree": None, "max_terms": 4, "order": 16, "t_pole_extra": 1,
+                        "max_primes": 4}, {})
+    text = as_text(result)
+    assert "None for the" not in text
+    assert "reached degree 3 for the map, not searched for the inverse" in text
