@@ -439,8 +439,26 @@ def _finish(cursor: _Cursor) -> None:
         hint = ""
         if cursor.token.kind in ("name", "int") or cursor.is_op("(") or cursor.is_op("["):
             hint = " (multiplication needs an explicit *)"
+        called = _called_name(cursor) if cursor.is_op("(") else None
+        if called is not None:    # e.g. lamda_1(S_i): a misspelt function, not a product
+            import difflib
+            nearest = difflib.get_close_matches(called, ("lambda", "det", "sum", "prod"), n=1,
+                                                cutoff=0.6)
+            if nearest:
+                fail(cursor.at(), f"unknown function {called!r}; did you mean {nearest[0]!r}?")
         fail(cursor.at(), f"expected an operator or the end of the expression, "
                           f"found {describe(cursor.token)}{hint}")
+
+
+def _called_name(cursor: _Cursor) -> Optional[str]:
+    """The name right before '(' (past a subscript such as _1 or _j), unless a generator's."""
+    i = cursor.index - 1
+    tokens = cursor.tokens
+    while i >= 2 and tokens[i].kind in ("int", "name") and tokens[i - 1].text == "_":
+        i -= 2
+    if i >= 0 and tokens[i].kind == "name" and i < cursor.index - 1:
+        return tokens[i].text
+    return None
 
 
 def _binding(cursor: _Cursor) -> Binding:
