@@ -319,3 +319,74 @@ def test_huge_integers_on_the_command_line_are_one_line(tmp_path):
         assert result.returncode == 2, (args, result.stderr)
         assert result.stderr.count("\n") == 1 and f"{path}:" in result.stderr, result.stderr
         assert "Traceback" not in result.stderr
+
+
+# ---------------------------------------------------------------------------------------
+# Parameters: random declarations and values end in a family or in one located line
+
+_VALID_VALUES = ['"-3..3"', '"0..3"', "[-1, 1]", "[0, 1, 2]", '"-5..5"', '"2..2"']
+_ODD_VALUES = st.one_of(
+    st.lists(st.one_of(st.integers(-10**7, 10**7), st.just(1.5), st.just(True), st.just("x")),
+             max_size=5).map(lambda v: "[" + ", ".join(
+                 "true" if x is True else '"x"' if x == "x" else str(x) for x in v) + "]"),
+    st.tuples(st.integers(-2000, 2000), st.integers(-2000, 2000)).map(
+        lambda t: f'"{t[0]}..{t[1]}"'),
+    st.sampled_from(['"1..x"', '""', "3", '"3..-3"', '"1..' + "9" * 50 + '"']))
+
+
+@st.composite
+def parameterised_file(draw) -> tuple:
+    """Mostly coherent files (each part spoiled about one time in five: a bad name, bad
+    values, a default or a value outside the declaration), so that most reach expansion."""
+    def spoiled() -> bool:
+        return draw(st.integers(0, 4)) == 4
+    names = draw(st.lists(st.sampled_from(["c", "sign", "a", "w"]), min_size=1, max_size=2,
+                          unique=True))
+    if spoiled():
+        names.append(draw(st.sampled_from(["s", "T1", "S1", "c", "9x", "a"])))
+    tables, allowed, per_step = [], {}, {}
+    for name in names:
+        valid = draw(st.sampled_from([(-3, 3), (0, 3), (-1, 1), (2, 2), (-5, 5)]))
+        allowed[name] = list(range(valid[0], valid[1] + 1))
+        values = draw(_ODD_VALUES) if spoiled() else f'"{valid[0]}..{valid[1]}"'
+        lines = ["[[parameters]]", f'name = "{name}"', f"values = {values}"]
+        if not spoiled():
+            lines.append(f"default = {draw(st.sampled_from(allowed[name]))}")
+        elif draw(st.booleans()):
+            lines.append(f"default = {draw(st.integers(-6, 6))}")
+        per_step[name] = name == "a"
+        if per_step[name] or spoiled():
+            lines.append(f"per_step = {'1' if spoiled() else str(per_step[name]).lower()}")
+        tables.append("\n".join(lines))
+    used = draw(st.sampled_from(names))
+    symbol = f"{used}_i" if per_step.get(used) else used
+    if spoiled():
+        symbol = draw(st.sampled_from([used + "_1", used + "_{i+1}", "zz"]))
+    factor = draw(st.sampled_from(["{u}", "(-1)^{u}", "2^{u}", "(1 - q_i)^{u}",
+                                   "y^{max(0, {u})}", "T_1^{u}"])).replace("{u}", symbol)
+    text = SOUP_CONTAINER.format(unit='"det(S_1)"', loops='"i = 1..m"',
+                                 coefficients='"j = 1..k_{i+1}"',
+                                 expr=toml_string(f"{factor} * lambda_y(S_i) * lambda_y(Q_i) "
+                                                  "- lambda_y(S_{i+1})"))
+    text = text.replace("[[generators]]", "\n\n".join(tables) + "\n\n[[generators]]", 1)
+    values = {}
+    for name in names:
+        if draw(st.booleans()):
+            values[name] = draw(st.integers(-6, 6)) if spoiled() else \
+                draw(st.sampled_from(allowed[name]))
+    if spoiled():
+        values[draw(st.sampled_from(["a_2", "zz", "c"]))] = draw(st.integers(-6, 6))
+    return text, values
+
+
+@fuzz_settings(400)
+@given(parameterised_file())
+def test_random_parameters_and_values_parse_or_fail_cleanly(case):
+    text, values = case
+    with dynamic_code_forbidden():
+        try:
+            family = family_from_text(text, LABEL, values)
+            for flag in SMALL_CASES[:3]:
+                build_specialised(family, flag, SPECS[flag])
+        except PresentationFileError as error:
+            check_clean_error(error)
