@@ -58,6 +58,9 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
     parser.add_argument("--trials", type=positive_int, default=1)
     from .engine import METHODS
     parser.add_argument("--method", choices=METHODS, default="auto")
+    from .sizes import OVERRIDE
+    parser.add_argument(OVERRIDE, dest="no_size_limit", action="store_true",
+                        help="start even a case the size estimate says cannot finish")
     from .sweep import FAILED_ATTEMPTS, RETRY_OPTION
     parser.add_argument(RETRY_OPTION, dest="retry_failed", action="store_true",
                         help=f"compute again the cases that crashed or failed "
@@ -133,6 +136,8 @@ def command(args) -> int:
             import distributed   # noqa: F401
         except ImportError:
             raise UsageError("--cluster needs Dask: pip install 'ringmatch[cluster]'") from None
+    _store_path_usable(args.store)
+    _size_check(args, flags)
     from . import parameters
     values = parameters.resolved(args, args.presentations)
     plan = plan_sweep(flags, args.presentations, seed=args.seed, prime=args.prime,
@@ -169,6 +174,37 @@ def command(args) -> int:
         print(summary_text(outcome, store_path=args.store, cluster=args.cluster,
                            workers=args.workers))
     return 0
+
+
+def _store_path_usable(path: str) -> None:
+    import os
+    from .cli import shown
+    try:
+        os.stat(path)
+    except FileNotFoundError:
+        pass
+    except OSError as error:
+        raise UsageError(f"--store {shown(path)}: {error.strerror or error}") from None
+
+
+def _size_check(args, flags) -> None:
+    """Refuse a sweep whose largest case cannot finish, unless each case is bounded
+    (--case-timeout, --case-memory: a worker past them is stopped and stored as a limit)."""
+    from .sizes import SizeError, check_estimate, guard
+    if args.no_size_limit or args.case_timeout is not None:
+        return
+    count = len(args.presentations)
+    worst = max(flags, key=lambda f: check_estimate(f, args.method, args.order, args.trials,
+                                                    count).seconds)
+    try:
+        guard(f"sweep case {worst.name}",
+              check_estimate(worst, args.method, args.order, args.trials, count),
+              allow_large=False)
+    except SizeError as error:
+        if args.case_memory is not None and "not attempted" in str(error):
+            return      # beyond the machine's memory: the worker stops at its allowance
+        raise SizeError(f"{error}; a sweep may still include it when each case is bounded "
+                        "by --case-timeout") from None
 
 
 def _stored_count(plan, store_path) -> int:

@@ -85,3 +85,16 @@ def test_a_malformed_cluster_address_is_one_line(address, tmp_path, monkeypatch)
     assert result.returncode == 2
     assert result.stderr.count("\n") == 1 and "scheduler address" in result.stderr
     assert list(tmp_path.iterdir()) == []      # no store created
+
+
+@pytest.mark.parametrize("args, fragment", [
+    (["sweep", "--cases", "Fl(21)"], "--case-timeout"),
+    (["sweep", "--cases", "P1", "--store", LONG], "--store 'aaa"),
+])
+def test_sweep_refusals_write_no_store(args, fragment, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    result = run_in_process(*args)
+    assert result.returncode == 2
+    assert result.stderr.count("\n") == 1 and fragment in result.stderr
+    assert len(result.stderr) < 400
+    assert list(tmp_path.iterdir()) == []
