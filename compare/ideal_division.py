@@ -163,8 +163,11 @@ def _first_call_survives() -> bool:
 def _run_first_call_in_child() -> bool:
     if not hasattr(os, "fork"):
         return False
+    import warnings
     try:
-        pid = os.fork()
+        with warnings.catch_warnings():   # the child only divides and exits, taking no locks
+            warnings.simplefilter("ignore", DeprecationWarning)
+            pid = os.fork()
     except OSError:
         return False
     if pid == 0:    # the child: report by exit status only, run no cleanup of the parent
