@@ -238,7 +238,7 @@ def _flint_remainder(f, divisor_addresses, quotient_addresses, count: int, layou
 # overflows an 8 MiB stack (a segmentation fault, not an exception).
 _TMP_ON_STACK = 8192
 _FRAMES = 4096                    # the routine's own frames, generously
-_DIRECT_STACK = 256 * 1024        # taken on the calling thread, whatever thread that is
+_DIRECT_STACK = 256 * 1024        # taken on any calling thread
 _MAX_THREAD_STACK = 1 << 30       # beyond: the pure path (address space under --case-memory)
 
 
@@ -264,6 +264,29 @@ def _stack_bytes(count: int, terms: int, per_divisor: int) -> int:
     fixed = 7 * _tmp_block(8 * count) + _tmp_block(16 * (terms + 1)) + \
         _tmp_block(24 * terms) + _tmp_block(_TMP_ON_STACK + 1) + _tmp_block(8 * terms)
     return _FRAMES + fixed + per_divisor
+
+
+def _main_thread_stack() -> int:
+    """What a division may take on the main thread: half its stack limit, less a margin for
+    the interpreter's own frames (the limit is usually 8 MiB)."""
+    try:
+        import resource
+        soft = resource.getrlimit(resource.RLIMIT_STACK)[0]
+    except (ImportError, OSError, ValueError):
+        return _DIRECT_STACK
+    if soft == resource.RLIM_INFINITY:
+        soft = 8 << 20
+    return max(_DIRECT_STACK, soft // 2 - (1 << 20))
+
+
+_MAIN_THREAD_STACK = _main_thread_stack()
+
+
+def _direct_stack() -> int:
+    # other threads (a Dask worker's) may have small stacks of unknown size
+    if threading.current_thread() is threading.main_thread():
+        return _MAIN_THREAD_STACK
+    return _DIRECT_STACK
 
 
 _THREAD_LOCK = threading.Lock()
@@ -427,7 +450,7 @@ class Divisors:
         if self._layout is None:
             return self._steered_remainder(f, count)
         stack = _stack_bytes(count, self._terms[count], self._stack[count])
-        if stack <= _DIRECT_STACK:
+        if stack <= _direct_stack():
             return _flint_remainder(f, self._divisor_array, self._quotient_array, count,
                                     self._layout)
         remainder = _remainder_on_large_stack(f, self._divisor_array, self._quotient_array,
