@@ -256,7 +256,7 @@ def _checked_row(path, row) -> dict:
         record = _row_dict(values)
     except (ValueError, TypeError, KeyError) as error:
         raise StoreError(f"{where} is damaged ({type(error).__name__}: {error}); delete that "
-                         "row or use another --store") from None
+                         "row or use another store") from None
     result = record["result"]
     problem = None
     if not isinstance(result, dict) or not isinstance(result.get("certificate"), dict):
@@ -265,7 +265,7 @@ def _checked_row(path, row) -> dict:
         problem = "its verdict or reason is not text"
     if problem:
         raise StoreError(f"{where} is damaged ({problem}); delete that row or use another "
-                         "--store")
+                         "store")
     return record
 
 
