@@ -34,7 +34,8 @@ PRINT_SECONDS_PER_TERM = 5e-3
 BYTES_PER_TERM = 64
 POINT_SECONDS = 5e-6              # per point and squared number of Chern roots
 POINT_BYTES = 64                  # per stored series coefficient (Python objects included)
-GROEBNER_SECONDS = 1e-4           # per cubed colength (Fl(1,2,3;5), colength 120: minutes)
+GROEBNER_SECONDS = 2e-6           # per cubed colength: Gr(5,10) 3.5 s, Fl(6) past a minute
+# (presentations with many auxiliary variables take far longer: Fl(1,2,3;5) with vieta)
 
 
 class SizeError(ResourceError):
