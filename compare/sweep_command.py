@@ -178,13 +178,13 @@ def command(args) -> int:
 
 def _store_path_usable(path: str) -> None:
     import os
-    from .cli import shown
     try:
         os.stat(path)
     except FileNotFoundError:
         pass
     except OSError as error:
-        raise UsageError(f"--store {shown(path)}: {error.strerror or error}") from None
+        text = path if len(path) <= 60 else path[:30] + "…" + path[-30:]
+        raise UsageError(f"--store {text!r}: {error.strerror or error}") from None
 
 
 def _size_check(args, flags) -> None:
