@@ -79,6 +79,10 @@ def _child(writer, work, memory_mib) -> None:
     from .sweep import _die_with_parent, _set_memory_limit
     signal.signal(signal.SIGINT, signal.SIG_IGN)     # the parent handles Ctrl-C
     _die_with_parent()
+    # stdout carries the parent's report (--json); FLINT prints why it aborts to stdout
+    import os
+    sys.stdout.flush()
+    os.dup2(2, 1)
     if memory_mib:
         _set_memory_limit(memory_mib)
     try:
