@@ -186,7 +186,11 @@ def cmd_relations(args) -> int:
     size_guard(args, f"relations {args.case.name}",
                symbolic_estimate(args.case, equivariant=not args.plain))
     presentation = build_symbolic(family, args.case, equivariant=not args.plain)
-    print(presentation_text(presentation, latex=args.latex))
+    if args.latex:
+        from ringmatch.reports.tables import presentation_latex
+        print(presentation_latex(presentation))
+    else:
+        print(presentation_text(presentation))
     return 0
 
 
@@ -212,7 +216,20 @@ def cmd_check(args) -> int:
         paths = write_report(result, args.report, command=command,
                              families={f.name: f for f in families})
         print("report: " + " and ".join(map(str, paths)), file=sys.stderr)
-    return 0
+    return verdict_status(result["verdict"])
+
+
+# Exit statuses of `check` and `sweep` for scripts (README, "What a verdict guarantees").
+EXIT_STATUS = {"agree": 0, "disagree": 1, "consistent": 3, "inconclusive": 3}
+
+
+EXIT_EPILOG = ("exit status: 0 agree (exact at a random specialisation), 1 disagree, "
+               "3 consistent (Bethe points to order s^N only) or inconclusive, 2 bad input")
+
+
+def verdict_status(verdict: str) -> int:
+    """0 agree (exact), 1 disagree, 3 consistent or inconclusive; 2 is bad input."""
+    return EXIT_STATUS.get(verdict, 3)
 
 
 def limited_check(args, families, estimated_seconds: float) -> dict:
@@ -226,7 +243,7 @@ def limited_check(args, families, estimated_seconds: float) -> dict:
     def work():
         return check_case(args.case, families, seed=seed, prime=args.prime,
                           equivariant=not args.plain, order=args.order, trials=args.trials,
-                          method=args.method)
+                          method=args.method, budget=args.budget)
     show = sys.stderr.isatty() or estimated_seconds > 10
     with stage_lines(f"check {args.case.name}", enabled=show):
         try:
@@ -461,15 +478,21 @@ def build_parser() -> argparse.ArgumentParser:
     _size_option(p)
     p.set_defaults(run=cmd_relations)
 
-    p = sub.add_parser("check", help="decide whether presentations of one case agree")
+    p = sub.add_parser("check", help="decide whether presentations of one case agree",
+                       epilog=EXIT_EPILOG)
     p.add_argument("case", type=flag_argument)
     p.add_argument("--presentations", type=presentation_list, default=["whitney"],
                    help="comma-separated family names; default whitney")
     p.add_argument("--seed", type=int, help="seed for the random specialisation (recorded)")
     p.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
     p.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
-    p.add_argument("--order", type=positive_int, default=6,
-                   help="truncation order N of the Bethe points (relations checked mod s^N)")
+    p.add_argument("--order", type=positive_int, default=None,
+                   help="truncation order N of the Bethe points (relations checked mod s^N); "
+                        "default: at least 6 and 2 + the largest q-degree among the relations")
+    from .sweep_command import _positive_float
+    p.add_argument("--budget", type=_positive_float, metavar="SECONDS",
+                   help="time for the exact route's Gröbner bases; past it the pairs are at "
+                        "most 'consistent' (default: no limit)")
     p.add_argument("--trials", type=positive_int, default=1,
                    help="independent primes/specialisations; all must agree")
     from .engine import METHODS
@@ -589,7 +612,10 @@ def build_parser() -> argparse.ArgumentParser:
 
     from . import demo, sweep_command
     p = sub.add_parser("sweep", help="compare presentations on every flag type up to a size: "
-                                     "stored, resumable, parallel, first counterexample")
+                                     "stored, resumable, parallel, first counterexample",
+                       epilog="exit status: 0 every case agrees (exactly), 1 some case "
+                              "disagrees, 3 otherwise (consistent or inconclusive cases), "
+                              "2 bad input")
     sweep_command.add_arguments(p, presentation_list=presentation_list,
                                 prime_argument=prime_argument, positive_int=positive_int)
     p.set_defaults(run=sweep_command.command)

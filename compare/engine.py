@@ -1,47 +1,66 @@
 """The comparison engine: one case, several presentations, one verdict with its certificate.
 
-For every presentation it measures
-  * colength at a random specialisation of T and q (Gröbner basis mod p, units inverted),
-  * classical colength (the same at q = 0),
-  * "holds": every relation vanishes at every Bethe point to order s^N (docs/mathematics.md §2.3),
-  * "complete": holds, classical colength = expected, and the generators separate the fixed
-    points — the Nakayama-type criterion of docs/verdicts.md §4 (arXiv:2310.03826).
-For every pair it decides agreement:
-  * through the common ring of λ-classes (compare/transport.py) when both presentations can
-    be moved there exactly: equal reduced Gröbner bases, with witnesses both ways otherwise;
-  * otherwise through the Bethe points: two complete presentations present the same ring.
+What each kind of evidence proves is set out in docs/verdicts.md; in short:
+
+* **Exact at a specialisation** (the only basis for `agree`, an unqualified "holds" and
+  `complete`).  T and q are replaced by random residues mod a large prime p.  The reference is
+  the q-Whitney ideal J, which presents the quantum K ring of every partial flag variety
+  (arXiv:2409.15575), moved into the ring C of the λ_j(S_i) (docs/mathematics.md §3).  A
+  presentation's relations, moved into C through the meanings of its generators (denominators
+  det S_i cleared: they are units), *hold* when each reduces to 0 modulo J's Gröbner basis.
+  Its ring then maps onto C/J when its generators include every λ_j(S_i), and it *equals*
+  the quantum K ring at the specialisation when, in addition, its own colength with the
+  units inverted is the rank.  Probabilistic only through the random choice.
+* **Bethe points to order s^N** (q_i = c_i·s): a relation with a nonzero coefficient below
+  s^N at some point is an exact witness that it does not hold (`disagree`); vanishing to
+  order s^N alone gives the weaker verdict `consistent`, never `agree`.
+* `bethe` (the equations in the Chern roots) is decided through `vieta` by construction:
+  with distinct roots in each level, the Bethe equations say that the polynomial with roots
+  −1/X^(i)_a, which is λ_y(S_i) up to its leading coefficient, divides N_i(y); that is the
+  auxiliary-root form of `vieta` (docs/mathematics.md §2.2–2.3), so the symmetric part of
+  the ring in the roots is the `vieta` ring.
+
+In the automatic mode the points run first, as a filter that refutes without any Gröbner
+basis; the exact route then decides every presentation and pair up to rank
+EXACT_RANK_LIMIT (above it, or past the time budget, pairs are at most `consistent`).
 All randomness comes from one seed; the certificate records everything needed to repeat it.
 """
 from __future__ import annotations
 
+import math
 import random
 import time
-from dataclasses import dataclass, field, replace
-from typing import Dict, List, Optional, Sequence, Tuple
+from dataclasses import dataclass, field, fields, replace
+from typing import Dict, List, Optional, Sequence, Tuple, Union
 
 import flint
 
+from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType
-from ringmatch.presentations.interface import Family, build_specialised
-from ringmatch.presentations.vieta import det_S
+from ringmatch.presentations.interface import Family, build_specialised, build_symbolic
+from ringmatch.presentations.lambda_classes import det_S
 
 from . import algebra, groebner, points, transport
 
-# Gröbner bases grow superlinearly with the colength; above this the default method leaves a
-# presentation to the Bethe points (docs/verdicts.md §8: the points first, where they decide).
-GROEBNER_COLENGTH_LIMIT = 150
-# For the Bethe equations in the roots the Gröbner basis is only a consistency check, and
-# saturating the Vandermonde products makes it far costlier per unit of colength (Fl(2,3;4),
-# colength 144: 35 s against 0.1 s for Whitney of rank 120), hence a lower limit.
-REFERENCE_COLENGTH_LIMIT = 80
-# Classical (q = 0) ideals are far cheaper (Whitney for Fl(6): 0.1 s), and their colength is
-# what completeness needs, so they get a much higher automatic limit.
-CLASSICAL_COLENGTH_LIMIT = 5040
+SCHEMA_VERSION = 2
+# Every case up to this rank (all flag types with n ≤ 7, and Fl(2,4,6;8)) is decided exactly
+# in the automatic mode; larger ones only with --method groebner or both.
+EXACT_RANK_LIMIT = 5040
 # Largest quotient whose multiplication matrix is built to localise at the units.
 LOCALISATION_SIZE_LIMIT = 3000
 DEFAULT_ORDER = 6
 MAX_WITNESSES = 3
 METHODS = ("auto", "groebner", "points", "both")
+VERDICTS = ("agree", "disagree", "consistent", "inconclusive")
+REFERENCE = "whitney"
+INFINITE = "infinite"
+PROBABILITY_BASIS = (
+    "exact at a random specialisation of T and q mod p: a wrong verdict needs the random "
+    "residues to hit the zeros of a nonzero polynomial, which happens with probability at "
+    "most its degree / p; each further trial (--trials) repeats the check with an "
+    "independent seed and prime")
+
+Colength = Union[int, str, None]     # a number, "infinite", or None (not computed)
 
 
 @dataclass
@@ -50,45 +69,70 @@ class PresentationReport:
     generators: int
     relations: int
     expected_colength: int
-    colength: Optional[int] = None
-    classical_colength: Optional[int] = None
-    holds: Optional[bool] = None
+    colength: Colength = None
+    classical_colength: Colength = None
+    holds: Optional[bool] = None          # True only when exact; False: refuted (exactly)
+    holds_evidence: Optional[str] = None  # how `holds` (or its absence) was established
+    holds_to_order: Optional[int] = None  # relations vanish at the Bethe points mod s^N
     separates: Optional[bool] = None
-    complete: Optional[bool] = None
+    complete: Optional[bool] = None       # equals the quantum K ring at the specialisation
+    exact: bool = False                   # `complete` was decided by exact evidence
     colength_method: Optional[str] = None
     classical_method: Optional[str] = None
     fixed_points_ok: Optional[bool] = None   # at q = 0: relations vanish, units do not,
                                              # generators separate the fixed points
+    decided_by: Optional[str] = None      # why `complete` is what it is
     failures: List[dict] = field(default_factory=list)
     notes: List[str] = field(default_factory=list)
 
-    def as_dict(self) -> dict:
-        return dict(self.__dict__)
+    def to_json(self) -> dict:
+        return {f.name: getattr(self, f.name) for f in fields(self)}
+
+    as_dict = to_json
+
+    @classmethod
+    def from_json(cls, data: dict) -> "PresentationReport":
+        known = {f.name for f in fields(cls)}
+        return cls(**{k: v for k, v in data.items() if k in known})
 
 
 @dataclass
 class PairReport:
     a: str
     b: str
-    verdict: str                 # agree | disagree | inconclusive
-    method: str                  # groebner | points
+    verdict: str                 # agree | disagree | consistent | inconclusive
+    method: str                  # what decided it (see docs/verdicts.md)
     reason: str
     witnesses: List[dict] = field(default_factory=list)
+    exact: bool = False
+    order: Optional[int] = None  # the truncation order, when the points decided it
 
-    def as_dict(self) -> dict:
-        return dict(self.__dict__)
+    def to_json(self) -> dict:
+        return {f.name: getattr(self, f.name) for f in fields(self)}
+
+    as_dict = to_json
+
+    @classmethod
+    def from_json(cls, data: dict) -> "PairReport":
+        known = {f.name for f in fields(cls)}
+        return cls(**{k: v for k, v in data.items() if k in known})
 
 
 # ---------------------------------------------------------------------------------------
 # Specialisations and seeds
 
 def trial_prime(prime: int, trial: int) -> int:
-    """The given prime for trial 0, then distinct primes further down, one per trial."""
-    if trial == 0:
-        return prime
-    candidate = prime - trial * (1 << 32)
-    while not flint.fmpz(candidate).is_prime():
+    """The given prime for trial 0, then the next smaller primes, one per trial.  Distinct
+    primes make the trials independent together with their distinct seeds."""
+    algebra.check_prime(prime)
+    candidate = prime
+    for _ in range(trial):
         candidate -= 1
+        while candidate >= 3 and not flint.fmpz(candidate).is_prime():
+            candidate -= 1
+        if candidate < 3:
+            raise InputError(f"prime {prime}: too small for {trial + 1} trials with distinct "
+                             "primes")
     return candidate
 
 
@@ -99,6 +143,26 @@ def trial_specialisations(flag: FlagType, seed: int, prime: int, equivariant: bo
     line = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime,
                                        equivariant=equivariant, q_on_line=True)
     return residues, line
+
+
+def largest_q_degree(families: Sequence[Family], flag: FlagType) -> int:
+    """The largest total degree in q_1, …, q_m of a term of any relation (symbolic, T = 1)."""
+    largest = 0
+    for family in families:
+        presentation = build_symbolic(family, flag, equivariant=False)
+        names = presentation.ring.ctx.names()
+        q_index = [k for k, name in enumerate(names) if name in
+                   {f"q{i}" for i in range(1, flag.m + 1)}]
+        for relation in presentation.relations:
+            for exponents, _ in relation.poly.terms():
+                largest = max(largest, int(sum(exponents[k] for k in q_index)))
+    return largest
+
+
+def truncation_order(families: Sequence[Family], flag: FlagType) -> int:
+    """The default order N: at least 2 + the largest q-degree among the relations, so that
+    a relation differing from a correct one in a term of any degree it writes is seen."""
+    return max(DEFAULT_ORDER, 2 + largest_q_degree(families, flag))
 
 
 def classical(spec: algebra.Specialisation) -> algebra.Specialisation:
@@ -204,14 +268,15 @@ def colength_with_units(family: Family, flag: FlagType, spec: algebra.Specialisa
         stripped = groebner.groebner_basis([without_unit_factors(r.poly, presentation.units)
                                             for r in presentation.relations])
         bound = groebner.colength(stripped)
-        if bound == flag.rank and points_bound:
+        if bound is not None and bound == flag.rank and points_bound:
             return bound, ("Gröbner basis of the relations without unit factors (upper bound) "
                            f"and {points_bound} (lower bound)")
         if bound is not None and bound <= LOCALISATION_SIZE_LIMIT:
             return localised_colength(stripped, presentation.units), (
                 "Gröbner basis of the relations without unit factors, localised at the units "
                 "by the rank of a power of their multiplication matrix")
-    return own_ideal(family, flag, spec).colength, own_ideal_method(bool(presentation.units))
+    return _colength_value(own_ideal(family, flag, spec).colength), \
+        own_ideal_method(bool(presentation.units))
 
 
 @dataclass
@@ -265,7 +330,7 @@ def witnesses_between(a: str, b: str, A: Ideal, B: Ideal) -> List[dict]:
             if remainder != 0:
                 found.append({"relation_of": source, "not_in": target,
                               "relation": relation.label,
-                              "normal_form": _formula(remainder, names)})
+                              "normal_form": algebra.poly_text(remainder, names)})
                 count += 1
                 if count >= MAX_WITNESSES:
                     break
@@ -278,7 +343,8 @@ def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport
         return PairReport(a, b, "agree", "groebner", f"equal reduced Gröbner bases {where}")
     witnesses = witnesses_between(a, b, A, B)
     if A.colength != B.colength:
-        reason = f"colengths differ {where}: {A.colength} and {B.colength}"
+        reason = (f"colengths differ {where}: {_colength_value(A.colength)} and "
+                  f"{_colength_value(B.colength)}")
     elif not (A.faithful and B.faithful):
         unfaithful = " and ".join(n for n, X in ((a, A), (b, B)) if not X.faithful)
         reason = (f"{unfaithful} loses relations when its generators are replaced by their "
@@ -288,9 +354,129 @@ def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport
     return PairReport(a, b, "disagree", "groebner", reason, witnesses)
 
 
-def _formula(poly, names) -> str:
-    from ringmatch.reports.formulas import formula
-    return formula(poly, names, symmetric=True)
+
+
+# ---------------------------------------------------------------------------------------
+# The exact route: the q-Whitney ideal as reference
+
+@dataclass
+class Reference:
+    """The q-Whitney ideal J moved into C = F_p[λ_j(S_i)] at one specialisation."""
+    ring: algebra.Ring
+    basis: list
+    colength: Colength
+
+
+@dataclass
+class Status:
+    """Whether a presentation equals the quantum K ring at the specialisation."""
+    equal: Optional[bool]
+    exact: bool
+    reason: str
+    witnesses: List[dict] = field(default_factory=list)
+
+
+def reference_ideal(flag: FlagType, spec: algebra.Specialisation) -> Reference:
+    from ringmatch.presentations import get_family
+    whitney = build_specialised(get_family(REFERENCE), flag, spec)
+    C = transport.common_ring(flag, spec)
+    moved = transport.transport(whitney, C, spec)
+    basis = groebner.groebner_basis([r.poly for r in moved])
+    return Reference(C, basis, _colength_value(groebner.colength(basis)))
+
+
+def _colength_value(value: Optional[int]) -> Colength:
+    return INFINITE if value is None else value
+
+
+def is_reference_family(family: Family) -> bool:
+    from ringmatch.presentations import FAMILIES
+    return FAMILIES.get(REFERENCE) is family
+
+
+def _is_unit_modulo(poly, ref: Reference, flag: FlagType) -> bool:
+    """Whether the element is invertible in C/J: a constant times a monomial in the
+    det S_i is (docs/mathematics.md §2.1); otherwise 1 ∈ J + (element) decides."""
+    dets = {transport.common_generator_names(flag).index(n)
+            for n in (f"S{i}_{flag.k(i)}" for i in range(1, flag.m + 1))}
+    terms = list(poly.terms())
+    if len(terms) == 1 and all(e == 0 or k in dets for k, e in enumerate(terms[0][0])):
+        return True
+    return groebner.groebner_basis(list(ref.basis) + [poly]) == [ref.ring.one]
+
+
+def exact_status(family: Family, flag: FlagType, spec: algebra.Specialisation,
+                 ref: Reference, report: PresentationReport) -> Status:
+    """Decide exactly whether the presentation equals the quantum K ring at `spec`; fills
+    in holds, colength and their methods on the report."""
+    name = family.name
+    if is_reference_family(family):
+        report.holds, report.holds_evidence = True, "exact: the reference itself"
+        report.colength = ref.colength
+        report.colength_method = ("Gröbner basis of the q-Whitney ideal in the λ_j(S_i) "
+                                  "(each λ_j(Q_i) eliminated by its linear relation)")
+        return Status(True, True, "the q-Whitney relations present the quantum K ring "
+                      "(arXiv:2409.15575)")
+    presentation = build_specialised(family, flag, spec)
+    moved = transport.move_cleared(presentation, ref.ring, spec)
+    if moved is None:
+        report.notes.append("its generators (Chern roots) have no expression in the "
+                            "λ-classes: no exact route")
+        return Status(None, False, f"{name} cannot be moved into the λ-class ring")
+    relations, units = moved
+    names = ref.ring.ctx.names()
+    witnesses = []
+    for relation in relations:
+        remainder = groebner.normal_form(relation.poly, ref.basis)
+        if remainder != 0:
+            witnesses.append({"relation_of": name, "not_in": REFERENCE,
+                              "relation": relation.label,
+                              "normal_form": algebra.poly_text(remainder, names)})
+            if len(witnesses) >= MAX_WITNESSES:
+                break
+    report.holds = not witnesses
+    report.holds_evidence = ("exact: every relation reduces to 0 modulo the q-Whitney ideal"
+                             if report.holds else
+                             "exact: a relation does not reduce to 0 modulo the q-Whitney "
+                             "ideal")
+    if witnesses:
+        return Status(False, True, f"{witnesses[0]['relation']} of {name} is not in the "
+                      "q-Whitney ideal at the specialisation", witnesses)
+    for unit in units:
+        if not _is_unit_modulo(unit, ref, flag):
+            return Status(False, True, f"a unit declared by {name} is not invertible in the "
+                          "quantum K ring at the specialisation")
+    onto = transport.has_every_lambda_S(presentation)
+    if onto:
+        bound = ("its relations hold exactly and its generators include every λ_j(S_i), so "
+                 "its ring maps onto the quantum K ring (lower bound: the rank)")
+    elif report.separates:
+        onto = True
+        bound = ("its relations hold exactly and its generators separate the fixed points, "
+                 "so they generate at a generic specialisation (lower bound: the rank)")
+    else:
+        bound = None
+    report.colength, report.colength_method = colength_with_units(family, flag, spec, bound)
+    rank = flag.rank
+    if report.colength == INFINITE:
+        return Status(False, True, f"{name} has infinite colength: too few relations")
+    if onto and report.colength == rank:
+        return Status(True, True, f"{name} equals the q-Whitney ideal: its relations reduce "
+                      f"to 0 modulo it and its colength is the rank {rank}")
+    if report.colength > rank:
+        return Status(False, True, f"{name}: its relations hold, but its colength "
+                      f"{report.colength} exceeds the rank {rank} (a smaller ideal)")
+    if report.colength < rank:
+        return Status(False, True, f"{name}: colength {report.colength} is below the rank "
+                      f"{rank}")
+    return Status(None, False, f"{name}: whether its generators generate the ring is not "
+                  "decided")
+
+
+def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisation,
+                       report: PresentationReport) -> None:
+    report.classical_colength, report.classical_method = colength_with_units(
+        family, flag, classical(spec), "the fixed points" if report.fixed_points_ok else None)
 
 
 # ---------------------------------------------------------------------------------------
@@ -298,73 +484,99 @@ def _formula(poly, names) -> str:
 
 def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Specialisation,
                    order: int, reports: Dict[str, PresentationReport]) -> dict:
-    """Fill holds / separates / failures from the Bethe points; returns the lift record."""
+    """Fill separates / failures / holds-to-order from the Bethe points.  A failing
+    relation is an exact refutation; vanishing to order s^N only says so."""
     lifted = points.lift_points(flag, line, order)
     for family in families:
         report = reports[family.name]
         result = points.check_holds_family(family, flag, lifted)
-        report.holds = result.holds
         report.separates = result.separates
         report.fixed_points_ok = bool(result.separates and not result.classical_failure
                                       and not result.unit_failures)
         report.failures = [failure.as_dict() for failure in result.failures[:MAX_WITNESSES]]
         report.failures += [dict(failure.as_dict(), relation=f"unit {failure.unit} vanishes")
                             for failure in result.unit_failures[:MAX_WITNESSES]]
+        if result.holds:
+            report.holds_to_order = order
+        else:
+            report.holds = False
+            report.holds_evidence = (f"exact: a relation does not vanish at a Bethe point "
+                                     f"(below s^{order})")
     return {"order": order, "q_line": list(line.q_line), "points": len(lifted.points)}
 
 
-def decide_completeness(report: PresentationReport, family: Family) -> None:
-    if report.holds is None:
-        report.complete = None
-    elif family.solved_by_points:
-        # The reference: complete when the points are its solutions, and its own colength
-        # (a consistency check, where a Gröbner basis was affordable) is the expected one.
-        report.complete = bool(report.holds and report.separates) and \
-            report.classical_colength in (None, report.expected_colength)
-    elif report.classical_colength is None:
-        report.complete = None
-    else:
-        report.complete = bool(report.holds and report.separates
-                               and report.classical_colength == report.expected_colength)
+def points_status(report: PresentationReport, family: Family) -> Status:
+    if report.holds is False and report.failures:
+        failure = report.failures[0]
+        return Status(False, True, f"{report.name}: {failure.get('relation')} does not vanish "
+                      "at a Bethe point", [{"relation_of": report.name,
+                                            "fails_at_points": f} for f in report.failures])
+    return Status(None, False, "not decided")
 
 
-def compare_by_points(a: PresentationReport, b: PresentationReport) -> PairReport:
-    if a.complete and b.complete:
-        return PairReport(a.name, b.name, "agree", "points",
-                          "both present the ring of functions on the Bethe points")
-    complete, other = (a, b) if a.complete else (b, a)
-    if complete.complete and other.complete is False:
-        return PairReport(a.name, b.name, "disagree", "points",
-                          f"{other.name} does not present the ring: " + why_incomplete(other),
-                          list(other.failures))
-    undecided = [r.name for r in (a, b) if r.complete is None]
-    if undecided:
-        return PairReport(a.name, b.name, "inconclusive", "points",
-                          "no common generators to compare the ideals, and completeness of "
-                          + " and ".join(undecided) + " is not decided")
-    return PairReport(a.name, b.name, "inconclusive", "points",
-                      "no common generators to compare the ideals, and neither presentation "
-                      "presents the ring")
+# ---------------------------------------------------------------------------------------
+# Pairs and the overall verdict
+
+def compare_pair(a: str, b: str, status: Dict[str, Status],
+                 reports: Dict[str, PresentationReport], order: Optional[int],
+                 own_pair=None) -> PairReport:
+    sa, sb = status[a], status[b]
+    if sa.equal and sb.equal:
+        return PairReport(a, b, "agree", "exact at a specialisation",
+                          "both equal the q-Whitney ideal at the specialisation", exact=True)
+    for good, bad in ((sa, sb), (sb, sa)):
+        if good.equal and bad.equal is False:
+            method = ("Bethe points" if any("fails_at_points" in w for w in bad.witnesses)
+                      else "exact at a specialisation")
+            return PairReport(a, b, "disagree", method, bad.reason, list(bad.witnesses),
+                              exact=True, order=order if method == "Bethe points" else None)
+    if sa.equal is False and sb.equal is False:
+        if own_pair is not None:
+            return own_pair()
+        return PairReport(a, b, "inconclusive", "exact at a specialisation",
+                          "neither presents the quantum K ring (" + sa.reason + "; "
+                          + sb.reason + "); their ideals were not compared with each other",
+                          list(sa.witnesses) + list(sb.witnesses), exact=False)
+    ra, rb = reports[a], reports[b]
+    if order is not None and all(r.holds_to_order == order for r in (ra, rb)):
+        undecided = " and ".join(r.name for r, s in ((ra, sa), (rb, sb)) if not s.equal)
+        return PairReport(a, b, "consistent", "Bethe points",
+                          f"every relation vanishes at every Bethe point to order s^{order}; "
+                          f"not proven ({undecided} not decided exactly: "
+                          + "; ".join(s.reason for s in (sa, sb) if not s.equal) + ")",
+                          exact=False, order=order)
+    reasons = "; ".join(s.reason for s in (sa, sb) if s.equal is not True)
+    return PairReport(a, b, "inconclusive", "none", reasons or "not decided",
+                      list(sa.witnesses) + list(sb.witnesses), exact=False, order=order)
 
 
-def why_incomplete(report: PresentationReport) -> str:
-    if report.holds is False:
-        return "some relations do not vanish at the Bethe points"
-    if report.classical_colength != report.expected_colength:
-        return (f"classical colength {report.classical_colength} ≠ expected "
-                f"{report.expected_colength}")
-    if report.separates is False:
-        return "its generators do not separate the fixed points"
-    return "undecided"
+def overall_verdict(presentations: Dict[str, PresentationReport], pairs: List[PairReport],
+                    order: Optional[int]) -> Tuple[str, str]:
+    if any(p.verdict == "disagree" for p in pairs):
+        return "disagree", "at least one pair of presentations differs"
+    wrong = [r.name for r in presentations.values() if r.complete is False and r.exact]
+    if wrong:
+        return "disagree", "does not present the ring: " + ", ".join(wrong)
+    if all(p.verdict == "agree" for p in pairs) and \
+            all(r.complete and r.exact for r in presentations.values()):
+        return "agree", ("every pair agrees exactly at the specialisation" if pairs else
+                         "the presentation equals the quantum K ring at the specialisation")
+    if pairs and all(p.verdict in ("agree", "consistent") for p in pairs) or \
+            not pairs and all(r.holds_to_order for r in presentations.values()):
+        return "consistent", (f"every relation vanishes at every Bethe point to order "
+                              f"s^{order}; not proven")
+    undecided = [r.name for r in presentations.values() if r.complete is None]
+    return "inconclusive", ("not decided for " + ", ".join(undecided) if undecided else
+                            "some pair is inconclusive")
 
 
 # ---------------------------------------------------------------------------------------
 # One trial and the whole check
 
 def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: int,
-              equivariant: bool, order: int, method: str) -> dict:
+              equivariant: bool, order: int, method: str,
+              budget: Optional[float] = None) -> dict:
     residues, line = trial_specialisations(flag, seed, prime, equivariant)
-    use_points = method in ("points", "both", "auto")
     reports: Dict[str, PresentationReport] = {}
     timings = {"groebner": 0.0, "points": 0.0}
     for family in families:
@@ -372,138 +584,193 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
         reports[family.name] = PresentationReport(
             family.name, len(probe.generators), len(probe.relations), probe.expected_colength)
 
+    use_points = method in ("points", "both", "auto")
     started = time.perf_counter()
     points_record = None
-    if use_points:
+    if use_points and equivariant:
         try:
             points_record = points_reports(families, flag, line, order, reports)
         except points.LiftError as error:
             for report in reports.values():
                 report.notes.append(f"Bethe points unavailable: {error}")
+    elif use_points:
+        for report in reports.values():
+            report.notes.append("no Bethe points without equivariant weights (all T_j = 1)")
     timings["points"] = time.perf_counter() - started
+    points_order = order if points_record is not None else None
 
+    status: Dict[str, Status] = {f.name: points_status(reports[f.name], f) for f in families}
+    for family in families:
+        if is_reference_family(family):
+            status[family.name] = Status(True, True, "the q-Whitney relations present the "
+                                         "quantum K ring (arXiv:2409.15575)")
+
+    use_exact = method in ("groebner", "both") or (
+        method == "auto" and flag.rank <= EXACT_RANK_LIMIT)
+    if method == "auto" and not use_exact:
+        for report in reports.values():
+            report.notes.append(f"rank {flag.rank} is above {EXACT_RANK_LIMIT}: no exact "
+                                "route in the automatic mode (--method both forces it)")
     started = time.perf_counter()
-    limit = {f.name: REFERENCE_COLENGTH_LIMIT if f.solved_by_points else GROEBNER_COLENGTH_LIMIT
-             for f in families}
-    by_groebner = [f for f in families if method in ("groebner", "both") or (
-        method == "auto" and reports[f.name].expected_colength <= limit[f.name])]
-    for family in families:
-        report = reports[family.name]
-        if family in by_groebner or (method == "auto" and not family.solved_by_points and
-                                     report.expected_colength <= CLASSICAL_COLENGTH_LIMIT):
-            report.classical_colength, report.classical_method = colength_with_units(
-                family, flag, classical(residues),
-                "the fixed points" if report.fixed_points_ok else None)
-        if family not in by_groebner and method == "auto":
-            report.notes.append(
-                f"no Gröbner basis at generic q: expected colength {report.expected_colength} "
-                f"is above the automatic limit {limit[family.name]} (use --method both)")
-    for family in families:
-        decide_completeness(reports[family.name], family)
-    # Two complete presentations present the same ring, so in the automatic mode the ideals
-    # are moved into the common ring only where the points leave something to explain.
-    with_transport = method in ("groebner", "both") or not all(
-        reports[f.name].complete for f in families)
-    own, moved = groebner_reports(by_groebner, flag, residues, reports, with_transport)
-    use_groebner = any(r.classical_colength is not None for r in reports.values())
+    if use_exact:
+        exact_reports(families, flag, residues, reports, status, budget)
     timings["groebner"] = time.perf_counter() - started
 
-    pairs = [compare_pair(families[x].name, families[y].name, own, moved, reports)
+    for family in families:
+        report, s = reports[family.name], status[family.name]
+        report.complete, report.exact = s.equal, s.exact
+        report.decided_by = s.reason
+        if is_reference_family(family) and report.holds is None:
+            report.holds, report.holds_evidence = True, "by theorem (arXiv:2409.15575)"
+
+    def own_pair(fa: Family, fb: Family):
+        if not use_exact or [g.name for g in fa.generators(flag)] != \
+                [g.name for g in fb.generators(flag)]:
+            return None
+        return lambda: compare_own_ideals(fa, fb, flag, residues)
+
+    pairs = [compare_pair(families[x].name, families[y].name, status, reports, points_order,
+                          own_pair(families[x], families[y]))
              for x in range(len(families)) for y in range(x + 1, len(families))]
 
     certificate = residues.record()
-    certificate.update({"q_line": list(line.q_line), "order": order if use_points else None,
-                        "method": _method_label(use_groebner, use_points),
-                        "exact": False, "kind": "probabilistic"})
+    certificate.update({"q_line": list(line.q_line), "order": points_order,
+                        "method": _method_label(use_exact, points_record is not None),
+                        "exact": False, "kind": "", "probability": PROBABILITY_BASIS,
+                        "budget_seconds": budget})
     return {"certificate": certificate, "presentations": reports, "pairs": pairs,
             "timings": timings, "points": points_record}
 
 
-def groebner_reports(families: Sequence[Family], flag: FlagType,
-                     residues: algebra.Specialisation, reports: Dict[str, PresentationReport],
-                     with_transport: bool
-                     ) -> Tuple[Dict[str, Ideal], Dict[str, Optional[Ideal]]]:
-    """Own (and, if asked, transported) ideals of the given presentations; fills in the
-    colengths."""
-    own: Dict[str, Ideal] = {}
-    moved: Dict[str, Optional[Ideal]] = {}
-    if not families:
-        return own, moved
-    common = common_setup(families, flag, residues) if with_transport else None
-    for family in families:
-        report = reports[family.name]
-        if not with_transport:
-            # Nothing to compare ideal by ideal: only the colength is wanted.
-            report.colength, report.colength_method = colength_with_units(
-                family, flag, residues, "the Bethe points" if report.complete else None)
-            continue
-        own[family.name] = own_ideal(family, flag, residues)
-        report.colength = own[family.name].colength
-        report.colength_method = own_ideal_method(bool(own[family.name].ring.extra))
-        moved[family.name] = transported_ideal(family, flag, residues, common, own[family.name])
-        if moved[family.name] is not None and not moved[family.name].faithful:
-            report.notes.append(
-                f"replacing its generators by their meanings changes the colength from "
-                f"{report.colength} to {moved[family.name].colength}")
-    return own, moved
+def exact_reports(families: Sequence[Family], flag: FlagType,
+                  residues: algebra.Specialisation, reports: Dict[str, PresentationReport],
+                  status: Dict[str, Status], budget: Optional[float]) -> None:
+    """The exact route for every presentation not already refuted by the points."""
+    from ringmatch.presentations import get_family
+    try:
+        with groebner.time_budget(budget):
+            ref = reference_ideal(flag, residues)
+            if ref.colength != flag.rank:
+                for report in reports.values():
+                    report.notes.append(
+                        f"the q-Whitney ideal has colength {ref.colength} ≠ rank {flag.rank} at "
+                        "this specialisation (an unlucky draw): no exact route; try another seed")
+                return
+            vieta_status = None
+            for family in families:
+                report = reports[family.name]
+                if status[family.name].equal is False:
+                    continue      # refuted by the points: no Gröbner basis needed
+                if family.solved_by_points:
+                    if vieta_status is None:
+                        vieta = get_family("vieta")
+                        probe = PresentationReport(vieta.name, 0, 0, flag.rank,
+                                                   separates=report.separates)
+                        vieta_status = exact_status(vieta, flag, residues, ref, probe)
+                    status[family.name] = _through_vieta(vieta_status, report, flag)
+                    continue
+                status[family.name] = exact_status(family, flag, residues, ref, report)
+                if report.fixed_points_ok is not None or not family.solved_by_points:
+                    classical_colength(family, flag, residues, report)
+    except groebner.BudgetExceeded:
+        for family in families:
+            if status[family.name].equal is None:
+                reports[family.name].notes.append(
+                    f"the exact route ran past the time budget ({budget:g} s): not decided; "
+                    "a larger --budget (or none) decides it")
 
 
-def compare_pair(a: str, b: str, own: Dict[str, Ideal], moved: Dict[str, Optional[Ideal]],
-                 reports: Dict[str, PresentationReport]) -> PairReport:
-    """Same generators: compare the ideals as they are.  Otherwise in the common λ-class
-    ring when both can be moved there; otherwise through the Bethe points."""
-    if a in own and b in own and same_ring(own[a], own[b]):
-        pair = compare_ideals(a, b, own[a], own[b], "in their common generators")
-    elif moved.get(a) is not None and moved.get(b) is not None:
-        pair = compare_ideals(a, b, moved[a], moved[b], "in the common λ-class ring")
-    else:
-        return compare_by_points(reports[a], reports[b])
-    _attach_points_evidence(pair, reports[a], reports[b])
+def compare_own_ideals(fa: Family, fb: Family, flag: FlagType,
+                       spec: algebra.Specialisation) -> PairReport:
+    """Two presentations in the same generators, compared ideal to ideal (reduced Gröbner
+    bases with the units inverted)."""
+    A, B = own_ideal(fa, flag, spec), own_ideal(fb, flag, spec)
+    if not same_ring(A, B):
+        return PairReport(fa.name, fb.name, "inconclusive", "none",
+                          "neither presents the quantum K ring and their rings differ")
+    pair = compare_ideals(fa.name, fb.name, A, B, "in their common generators")
+    pair.method, pair.exact = "exact at a specialisation", True
     return pair
 
 
-def _attach_points_evidence(pair: PairReport, a: PresentationReport, b: PresentationReport):
-    """Where the points know more (which relation fails, where, at what order), add it."""
-    for report in (a, b):
-        if report.holds is False:
-            for failure in report.failures:
-                pair.witnesses.append({"relation_of": report.name, "fails_at_points": failure})
+def _through_vieta(vieta: Status, report: PresentationReport, flag: FlagType) -> Status:
+    """`bethe` equals the quantum K ring exactly when `vieta` does (module notes)."""
+    argument = ("by construction: with distinct roots in each level the Bethe equations say "
+                "that λ_y(S_i) divides N_i(y), i.e. the auxiliary-root (Vieta) form, so the "
+                "symmetric part of its ring is the vieta ring")
+    report.holds = vieta.equal if vieta.equal is not None else report.holds
+    report.holds_evidence = "exact through vieta" if vieta.exact else report.holds_evidence
+    report.notes.append("decided through vieta, " + argument)
+    if vieta.equal:
+        report.colength = report.expected_colength
+        report.colength_method = ("rank × ∏ k_i! " + argument + ", over which the roots of "
+                                  "distinct values form a free extension of rank ∏ k_i!")
+    return Status(vieta.equal, vieta.exact, f"{report.name} through vieta (Vieta's formulas): "
+                  + vieta.reason, list(vieta.witnesses))
 
 
 def _method_label(use_groebner: bool, use_points: bool) -> str:
-    return {(True, True): "both", (True, False): "groebner", (False, True): "points"}[
-        (use_groebner, use_points)]
+    return {(True, True): "both", (True, False): "groebner", (False, True): "points",
+            (False, False): "none"}[(use_groebner, use_points)]
 
 
-def overall_verdict(presentations: Dict[str, PresentationReport], pairs: List[PairReport]):
-    if any(p.verdict == "disagree" for p in pairs):
-        return "disagree", "at least one pair of presentations differs"
-    incomplete = [r.name for r in presentations.values() if r.complete is False]
-    if incomplete:
-        return "disagree", "does not present the ring: " + ", ".join(incomplete)
-    if pairs and all(p.verdict == "agree" for p in pairs) and \
-            all(r.complete for r in presentations.values()):
-        return "agree", "every pair agrees and every presentation is complete"
-    if not pairs and all(r.complete for r in presentations.values()):
-        return "agree", "the presentation is complete"
-    undecided = [r.name for r in presentations.values() if r.complete is None]
-    reason = "completeness not decided for " + ", ".join(undecided) if undecided else \
-        "some pair is inconclusive"
-    return "inconclusive", reason
+def _certificate_kind(verdict: str, pairs: List[PairReport],
+                      presentations: Dict[str, PresentationReport]) -> Tuple[bool, str]:
+    exact = verdict in ("agree", "disagree") and (
+        all(p.exact for p in pairs if p.verdict == verdict) if pairs else
+        all(r.exact for r in presentations.values()))
+    if verdict == "consistent":
+        return False, "Bethe points to order s^N (not a proof)"
+    if exact:
+        return True, "exact at a random specialisation (probabilistic)"
+    return False, "not decided"
+
+
+def validate(flag: FlagType, families: Sequence[Family], *, prime: int, trials: int,
+             method: str, order: Optional[int], budget: Optional[float]) -> None:
+    """The arguments of check_case, checked before any work (one-line InputError)."""
+    algebra.check_prime(prime)
+    if isinstance(trials, bool) or not isinstance(trials, int) or trials < 1:
+        raise InputError(f"trials must be a positive integer, not {trials!r}")
+    if method not in METHODS:
+        raise InputError(f"unknown method {method!r}; expected one of {', '.join(METHODS)}")
+    if order is not None and (isinstance(order, bool) or not isinstance(order, int)
+                              or order < 1):
+        raise InputError(f"order must be a positive integer, not {order!r}")
+    if budget is not None and not budget > 0:
+        raise InputError(f"budget must be a positive number of seconds, not {budget!r}")
+    if not families:
+        raise InputError("no presentation to check")
+    if prime - 2 < flag.n:
+        raise InputError(f"prime {prime} is too small for {flag.n} distinct weights")
+    trial_prime(prime, trials - 1)
 
 
 def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int] = None,
                prime: int = algebra.DEFAULT_PRIME, equivariant: bool = True,
-               order: int = DEFAULT_ORDER, trials: int = 1, method: str = "auto") -> dict:
-    """Run `trials` independent trials; the verdict stands only if all trials agree."""
+               order: Optional[int] = None, trials: int = 1, method: str = "auto",
+               budget: Optional[float] = None) -> dict:
+    """Run `trials` independent trials; the verdict stands only if all trials agree.
+
+    `order` None: the truncation order is chosen from the relations (`truncation_order`).
+    `budget`: seconds of Gröbner bases per trial before the exact route gives up."""
+    validate(flag, families, prime=prime, trials=trials, method=method, order=order,
+             budget=budget)
     if seed is None:
         seed = random.SystemRandom().randrange(2**32)
+    order_source = "given"
+    if order is None:
+        order, order_source = truncation_order(families, flag), "2 + largest q-degree"
     outcomes = []
     for t in range(trials):
         outcome = run_trial(flag, families, seed=seed + t, prime=trial_prime(prime, t),
-                            equivariant=equivariant, order=order, method=method)
-        outcome["verdict"], outcome["reason"] = overall_verdict(outcome["presentations"],
-                                                                outcome["pairs"])
+                            equivariant=equivariant, order=order, method=method,
+                            budget=budget)
+        outcome["verdict"], outcome["reason"] = overall_verdict(
+            outcome["presentations"], outcome["pairs"], outcome["certificate"]["order"])
+        exact, kind = _certificate_kind(outcome["verdict"], outcome["pairs"],
+                                        outcome["presentations"])
+        outcome["certificate"].update(exact=exact, kind=kind)
         outcomes.append(outcome)
     first = outcomes[0]
     verdicts = {o["verdict"] for o in outcomes}
@@ -512,15 +779,19 @@ def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int
          + ", ".join(o["verdict"] for o in outcomes))
     certificate = dict(first["certificate"])
     certificate["seed"] = seed
+    certificate["order_source"] = order_source
+    certificate["exact"] = certificate["exact"] and len(verdicts) == 1
     certificate["trials"] = [o["certificate"] for o in outcomes]
     return {
+        "schema": SCHEMA_VERSION,
         "case": flag.name,
         "rank": flag.rank,
         "equivariant": equivariant,
         "verdict": verdict,
         "reason": reason,
+        "exact": certificate["exact"],
         "certificate": certificate,
-        "presentations": {name: r.as_dict() for name, r in first["presentations"].items()},
-        "pairs": [p.as_dict() for p in first["pairs"]],
+        "presentations": {name: r.to_json() for name, r in first["presentations"].items()},
+        "pairs": [p.to_json() for p in first["pairs"]],
         "timings": first["timings"],
     }

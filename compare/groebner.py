@@ -16,9 +16,11 @@ without building polynomials.
 """
 from __future__ import annotations
 
+import contextlib
 import heapq
 import itertools
 import operator
+import time
 from dataclasses import dataclass, field
 from typing import Callable, Dict, Iterator, List, Optional, Sequence, Tuple
 
@@ -35,6 +37,31 @@ class NotZeroDimensional(RingmatchError, ValueError):
 
 class LimitExceeded(ResourceError, ValueError):
     """More standard monomials than the caller allowed."""
+
+
+class BudgetExceeded(ResourceError):
+    """A Gröbner basis was still running when the caller's time budget ran out."""
+
+
+# A time budget for every Gröbner basis started inside `time_budget(...)`.  Module state
+# rather than an argument because the budget covers whole stages of a check, many bases
+# deep, and a basis cannot be resumed anyway: stopping early only saves the caller's time.
+_deadline: Optional[float] = None
+
+
+@contextlib.contextmanager
+def time_budget(seconds: Optional[float]):
+    """Within the block, Buchberger's loop raises BudgetExceeded once `seconds` of wall
+    time have passed (None: no limit; nested budgets keep the earlier deadline)."""
+    global _deadline
+    saved = _deadline
+    if seconds is not None:
+        end = time.monotonic() + seconds
+        _deadline = end if saved is None else min(saved, end)
+    try:
+        yield
+    finally:
+        _deadline = saved
 
 
 # ---------------------------------------------------------------------------------------
@@ -234,10 +261,13 @@ def _buchberger(polys: List, key: Callable[[Monomial], tuple]
         h = _reduce(state, f)
         if not h.is_zero():
             _add_to_basis(state, monic(h), f.total_degree())
+    deadline = _deadline
     while True:
         pair = _select(state)
         if pair is None:
             break
+        if deadline is not None and time.monotonic() > deadline:
+            raise BudgetExceeded("the time budget ran out during a Gröbner basis")
         h = _reduce(state, _s_polynomial(state, pair))
         if h.is_zero():
             continue

@@ -109,7 +109,8 @@ def stage_lines(subject: str, stream=None, enabled: bool = True):
     the Gröbner bases), by wrapping the engine's stage functions for the duration."""
     from . import engine
     stream = stream if stream is not None else sys.stderr
-    stages = {"points_reports": "Bethe points", "groebner_reports": "Gröbner bases"}
+    stages = {"points_reports": "Bethe points",
+              "exact_reports": "exact route (Gröbner bases at a specialisation)"}
     saved = {name: getattr(engine, name) for name in stages if hasattr(engine, name)}
     if not enabled:
         yield

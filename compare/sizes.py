@@ -34,8 +34,10 @@ PRINT_SECONDS_PER_TERM = 5e-3
 BYTES_PER_TERM = 64
 POINT_SECONDS = 5e-6              # per point and squared number of Chern roots
 POINT_BYTES = 64                  # per stored series coefficient (Python objects included)
-GROEBNER_SECONDS = 2e-6           # per cubed colength: Gr(5,10) 3.5 s, Fl(6) past a minute
-# (presentations with many auxiliary variables take far longer: Fl(1,2,3;5) with vieta)
+GROEBNER_SECONDS = 2e-6           # per squared colength and presentation, the exact route at
+# one specialisation (Fl(6) about 1 s, Fl(7) 25-60 s per presentation); presentations with
+# many auxiliary variables take longer
+EXACT_RANK_LIMIT = 5040           # the engine's automatic exact route (compare/engine.py)
 
 
 class SizeError(ResourceError):
@@ -84,12 +86,12 @@ def points_estimate(flag: FlagType, order: int, repeats: float = 1.0) -> Estimat
                     rank * roots * order * POINT_BYTES)
 
 
-def check_estimate(flag: FlagType, method: str, order: int, trials: int,
+def check_estimate(flag: FlagType, method: str, order: Optional[int], trials: int,
                    presentations: int) -> Estimate:
-    estimate = points_estimate(flag, order, repeats=trials * (1 + presentations / 2))
-    if method in ("groebner", "both"):
-        rank = rank_estimate(flag)
-        seconds = trials * presentations * GROEBNER_SECONDS * rank ** 3
+    estimate = points_estimate(flag, order or 8, repeats=trials * (1 + presentations / 2))
+    rank = rank_estimate(flag)
+    if method in ("groebner", "both") or (method == "auto" and rank <= EXACT_RANK_LIMIT):
+        seconds = trials * presentations * GROEBNER_SECONDS * rank ** 2
         return Estimate(f"{estimate.description}, Gröbner bases of colength {_amount(rank)}",
                         estimate.seconds + seconds, estimate.bytes + rank ** 2 * 8)
     return estimate

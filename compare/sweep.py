@@ -698,8 +698,8 @@ def expected_cost(flag: FlagType) -> float:
     """A rough guess of a case's time for scheduling: Gröbner bases, which dominate, grow
     with the rank up to the automatic limit; above it a case goes by the Bethe points,
     whose cost is linear in the rank and small (docs/verdicts.md §8)."""
-    from .engine import GROEBNER_COLENGTH_LIMIT
-    return float(flag.rank) if flag.rank <= GROEBNER_COLENGTH_LIMIT else flag.rank / 20.0
+    from .engine import EXACT_RANK_LIMIT
+    return float(flag.rank) ** 2 if flag.rank <= EXACT_RANK_LIMIT else flag.rank / 20.0
 
 
 def schedule(todo: List[Tuple[int, CaseTask]], stop_at_first: bool) -> List[Tuple[int, CaseTask]]:

@@ -53,8 +53,9 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
                         help="sweep seed; each case's seed derives from it (default 0)")
     parser.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
     parser.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
-    parser.add_argument("--order", type=positive_int, default=6,
-                        help="truncation order N of the Bethe points")
+    parser.add_argument("--order", type=positive_int, default=None,
+                        help="truncation order N of the Bethe points (default: at least 6 and "
+                             "2 + the largest q-degree among the relations)")
     parser.add_argument("--trials", type=positive_int, default=1)
     from .engine import METHODS
     parser.add_argument("--method", choices=METHODS, default="auto")
@@ -173,7 +174,15 @@ def command(args) -> int:
     else:
         print(summary_text(outcome, store_path=args.store, cluster=args.cluster,
                            workers=args.workers))
-    return 0
+    return sweep_status(outcome.ordered_results())
+
+
+def sweep_status(results) -> int:
+    """1 when any case disagrees, 0 when every case agrees (exactly), otherwise 3."""
+    verdicts = {r.get("verdict") for r in results}
+    if "disagree" in verdicts:
+        return 1
+    return 0 if verdicts == {"agree"} else 3
 
 
 def _store_path_usable(path: str) -> None:

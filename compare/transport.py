@@ -93,3 +93,85 @@ def transport_units(presentation: Presentation, C: algebra.Ring, spec: algebra.S
     if values is None:
         return None
     return [u.compose(*values, ctx=C.ctx) for u in presentation.units]
+
+
+# ---------------------------------------------------------------------------------------
+# Moving with denominators: generators whose meaning is a ratio of determinants
+
+def _inverse_name(i: int) -> str:
+    return f"inverse_det_S{i}"
+
+
+def _fraction_representative(meaning: Meaning, flag: FlagType, C2: algebra.Ring,
+                             spec: algebra.Specialisation):
+    """A representative in C[1/det S_1, …, 1/det S_m], written with one variable per
+    inverse, or None.  L_i = det S_i / det S_{i−1} with det S_0 = 1, det S_{m+1} = T_1⋯T_n."""
+    if meaning.kind != "toda_L":
+        return representative(meaning, flag, C2, spec)
+    i = meaning.level
+
+    def det(level):
+        if level == 0:
+            return C2.one
+        if level == flag.m + 1:
+            product = C2.one
+            for t in C2.T:
+                product = product * t
+            return product
+        return C2.gen[lambda_S_name(level, flag.k(level))]
+
+    inverse = C2.one if i - 1 == 0 else C2.extra[_inverse_name(i - 1)]
+    return det(i) * inverse
+
+
+def _clear_inverses(poly, C: algebra.Ring, flag: FlagType):
+    """u·poly written without the inverse variables, for the least monomial u in the
+    det S_i that clears them.  det S_i is a unit of the quantum K ring (docs/mathematics.md
+    §2.1: det S_i · det Q_i = (1 − q_i) det S_{i+1}, and det S_{m+1} = T_1⋯T_n), so poly
+    lies in an ideal of that ring exactly when the cleared polynomial does."""
+    size = len(C.ctx.names())
+    terms = list(poly.terms())
+    if not terms:
+        return C.zero
+    m = flag.m
+    highest = [max(exponents[size + i] for exponents, _ in terms) for i in range(m)]
+    det_index = [C.ctx.names().index(lambda_S_name(i, flag.k(i))) for i in range(1, m + 1)]
+    cleared = {}
+    for exponents, coefficient in terms:
+        e = list(exponents[:size])
+        for i in range(m):
+            e[det_index[i]] += highest[i] - exponents[size + i]
+        key = tuple(e)
+        cleared[key] = cleared.get(key, 0) + int(coefficient)
+    return C.ctx.from_dict({k: v for k, v in cleared.items() if v % C.ctx.modulus()})
+
+
+def move_cleared(presentation: Presentation, C: algebra.Ring, spec: algebra.Specialisation
+                 ) -> Optional[tuple]:
+    """(relations, units) of the presentation moved into C with denominators cleared, or
+    None when some generator has no representative (Chern roots).  Unlike `transport`,
+    generators may be ratios of determinants (Toda's L_i), and the λ_j(S_i) need not all be
+    among the generators; whether the images generate the ring is the caller's question."""
+    flag = presentation.flag
+    names = tuple(_inverse_name(i) for i in range(1, flag.m + 1))
+    C2 = common_ring(flag, spec, extra=names)
+    images: Dict[str, object] = {}
+    for g in presentation.generators:
+        image = _fraction_representative(g.meaning, flag, C2, spec)
+        if image is None:
+            return None
+        images[g.name] = image
+    values = [images.get(name, C2.zero) for name in presentation.ring.ctx.names()]
+
+    def move(poly):
+        return _clear_inverses(poly.compose(*values, ctx=C2.ctx), C, flag)
+    relations = [Relation(r.label, move(r.poly)) for r in presentation.relations]
+    return relations, [move(u) for u in presentation.units]
+
+
+def has_every_lambda_S(presentation: Presentation) -> bool:
+    """Whether every λ_j(S_i) is a generator: then the images generate the common ring."""
+    flag = presentation.flag
+    meanings = {g.meaning for g in presentation.generators}
+    return all(Meaning("lambda_S", i, j) in meanings for i in range(1, flag.m + 1)
+               for j in range(1, flag.k(i) + 1))

@@ -224,12 +224,9 @@ def relation_latex(poly, names: Sequence[str], symbol_latex: Dict[str, str]) -> 
     return " ".join(relation_latex_pieces(poly, names, symbol_latex)) + " = 0"
 
 
-def presentation_text(presentation: Presentation, *, latex: bool = False) -> str:
-    """Generators with their meanings, then the relations, one per line; with `latex`, the
-    relations as an align* block (reports.tables.presentation_latex)."""
-    if latex:
-        from .tables import presentation_latex
-        return presentation_latex(presentation)
+def presentation_text(presentation: Presentation) -> str:
+    """Generators with their meanings, then the relations, one per line (for LaTeX:
+    reports.tables.presentation_latex)."""
     names = presentation.ring.ctx.names()
     flag = presentation.flag
     lines = [f"{presentation.family} presentation of QK_T({flag.name}), rank {flag.rank}",

@@ -138,7 +138,9 @@ def test_mutants_verdict_matches_sympy(case, mutant):
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=SMALL_PRIME)
     built = {f.name: build_specialised(f, flag, spec) for f in (whitney.FAMILY, mutant_family(mutant))}
     ideal_witnesses = [w for w in pair["witnesses"] if "normal_form" in w]
-    assert ideal_witnesses or "colength" in pair["reason"]
+    point_witnesses = [w for w in pair["witnesses"] if "fails_at_points" in w]
+    assert pair["exact"]
+    assert ideal_witnesses or point_witnesses or "colength" in pair["reason"]
     for w in ideal_witnesses:
         source, target = built[w["relation_of"]], built[w["not_in"]]
         names = target.ring.ctx.names()

@@ -35,8 +35,6 @@ COMMAND_LINE = {"ringmatch.compare.cli", "ringmatch.compare.demo"}
 # reports.formulas for a witness; the λ-class helper now lives in
 # presentations.lambda_classes).
 ALLOWED: Set[Tuple[str, str]] = {
-    ("ringmatch.compare.engine", "ringmatch.reports.formulas"),
-    ("ringmatch.compare.engine", "ringmatch.presentations.vieta"),
 }
 
 # The engine compares families through their meanings only (compare/transport.py), so it
