@@ -97,14 +97,15 @@ def presentation_record(name: str) -> dict:
 
 
 def sweep_settings(presentations: Sequence, *, equivariant: bool = True, seed: int = 0,
-                   prime: Optional[int] = None, order: int = 6, trials: int = 1,
+                   prime: Optional[int] = None, order: Optional[int] = None, trials: int = 1,
                    method: str = "auto") -> dict:
     """`presentations`: names or paths (strings), or records from `presentation_record`."""
     from . import algebra
     records = [p if isinstance(p, dict) else presentation_record(p) for p in presentations]
     return {"presentations": records, "equivariant": bool(equivariant), "seed": int(seed),
             "prime": int(prime if prime is not None else algebra.DEFAULT_PRIME),
-            "order": int(order), "trials": int(trials), "method": method}
+            "order": None if order is None else int(order), "trials": int(trials),
+            "method": method}
 
 
 def settings_key(settings: dict) -> str:

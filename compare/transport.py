@@ -146,6 +146,34 @@ def _clear_inverses(poly, C: algebra.Ring, flag: FlagType):
     return C.ctx.from_dict({k: v for k, v in cleared.items() if v % C.ctx.modulus()})
 
 
+def generator_images(presentation: Presentation, C: algebra.Ring,
+                     spec: algebra.Specialisation) -> Optional[list]:
+    """Elements of C generating, modulo the quantum K ideal, the same subalgebra as the
+    generators' meanings, or None when there is no such list here.
+
+    Ratios L_j = det S_j / det S_{j−1} are replaced by det S_j.  When L_1 … L_j are all
+    generators, det S_j = L_1⋯L_j lies in their subalgebra, and so does its inverse (in a
+    finite-dimensional algebra the inverse of a unit is a polynomial in it); conversely each
+    L_j is det S_j · (det S_{j−1})^{-1}.  So both lists generate the same subalgebra."""
+    flag = presentation.flag
+    levels = {g.meaning.level for g in presentation.generators if g.meaning.kind == "toda_L"}
+    if levels and levels != set(range(1, max(levels) + 1)):
+        return None
+    images = []
+    for g in presentation.generators:
+        if g.meaning.kind == "toda_L":
+            j = g.meaning.level
+            if j == flag.m + 1:
+                continue          # det S_{m+1} = T_1⋯T_n is a constant
+            images.append(C.gen[lambda_S_name(j, flag.k(j))])
+            continue
+        image = representative(g.meaning, flag, C, spec)
+        if image is None:
+            return None
+        images.append(image)
+    return images
+
+
 def move_cleared(presentation: Presentation, C: algebra.Ring, spec: algebra.Specialisation
                  ) -> Optional[tuple]:
     """(relations, units) of the presentation moved into C with denominators cleared, or
