@@ -570,7 +570,7 @@ def points_status(report: PresentationReport, family: Family) -> Status:
                       "at a Bethe point", [{"relation_of": report.name,
                                             "relation": f.get("relation"),
                                             "fails_at_points": f} for f in report.failures])
-    return Status(None, False, "not decided")
+    return Status(None, False, "only the Bethe points were used")
 
 
 # ---------------------------------------------------------------------------------------
@@ -601,8 +601,9 @@ def compare_pair(a: str, b: str, status: Dict[str, Status],
         undecided = " and ".join(r.name for r, s in ((ra, sa), (rb, sb)) if not s.equal)
         return PairReport(a, b, "consistent", "Bethe points",
                           f"every relation vanishes at every Bethe point to order s^{order}; "
-                          f"not proven ({undecided} not decided exactly: "
-                          + "; ".join(s.reason for s in (sa, sb) if not s.equal) + ")",
+                          f"not proven ({undecided}: "
+                          + "; ".join(dict.fromkeys(s.reason for s in (sa, sb)
+                                                    if not s.equal)) + ")",
                           exact=False, order=order)
     reasons = "; ".join(s.reason for s in (sa, sb) if s.equal is not True)
     return PairReport(a, b, "inconclusive", "none", reasons or "not decided",

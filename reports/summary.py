@@ -8,11 +8,18 @@ def _mark(value) -> str:
     return {True: "yes", False: "NO", None: "–"}.get(value, str(value))
 
 
+def _holds(p: dict) -> str:
+    """yes / NO when exact (or refuted); "to s^N" when only the points were checked."""
+    if p.get("holds") is None and p.get("holds_to_order"):
+        return f"to s^{p['holds_to_order']}"
+    return _mark(p.get("holds"))
+
+
 def presentation_rows(result: dict) -> list:
     rows = []
     for name, p in result["presentations"].items():
         rows.append([name, p["generators"], p["relations"], p["expected_colength"],
-                     _mark(p["colength"]), _mark(p["classical_colength"]), _mark(p["holds"]),
+                     _mark(p["colength"]), _mark(p["classical_colength"]), _holds(p),
                      _mark(p["complete"])])
     return rows
 
