@@ -59,6 +59,10 @@ def summary_text(outcome: SweepOutcome, *, store_path, cluster: Optional[str] = 
     counts = outcome.counts()
     lines.append("counts: " + (", ".join(f"{v} {counts[v]}" for v in VERDICTS if v in counts)
                                or "no cases"))
+    up_to = exact_agreement_rank(outcome)
+    if up_to:
+        lines.append(f"agree exactly on every case up to rank {up_to} "
+                     "(consistent cases do not count)")
     if plan.skipped:
         lines.append(f"skipped {len(plan.skipped)} case(s) a presentation has nothing for: "
                      + skipped_text(plan.skipped))
@@ -69,6 +73,18 @@ def summary_text(outcome: SweepOutcome, *, store_path, cluster: Optional[str] = 
     if outcome.not_run:
         lines.append(f"not run after the first counterexample: {len(outcome.not_run)} case(s)")
     return "\n".join(lines)
+
+
+def exact_agreement_rank(outcome: SweepOutcome) -> Optional[int]:
+    """The largest rank R such that every case of rank ≤ R in the results agrees (`agree`
+    is exact; `consistent` is not agreement), or None."""
+    results = [(outcome.results[f.name].get("rank", f.rank), outcome.results[f.name]["verdict"])
+               for f in outcome.plan.flags if f.name in outcome.results]
+    failing = [rank for rank, verdict in results if verdict != "agree"]
+    bound = min(failing) if failing else None
+    agreeing = [rank for rank, verdict in results
+                if verdict == "agree" and (bound is None or rank < bound)]
+    return max(agreeing) if agreeing else None
 
 
 def skipped_text(skipped: Sequence[Tuple[str, str]]) -> str:
