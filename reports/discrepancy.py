@@ -37,14 +37,11 @@ def case_file_stem(case: str, equivariant: bool = True) -> str:
 # Reproduction
 
 def _method_option(result: dict) -> str:
+    """The --method that repeats the certificate's method label.  "none" (neither route
+    ran: a plain check has no Bethe points, or the points could not be lifted) is what
+    --method points gives in those cases; "none" itself is no option of the check."""
     label = result["certificate"].get("method", "groebner")
-    # "auto" leaves large presentations to the points; its label is then "both" although
-    # not every presentation had a Gröbner basis, so only "auto" repeats that exactly.
-    left_to_points = any("automatic limit" in note for p in result["presentations"].values()
-                         for note in p.get("notes", []))
-    if label == "both" and left_to_points:
-        return "auto"
-    return label
+    return "points" if label == "none" else label
 
 
 def reproduce_command(result: dict, presentation_args: Optional[Iterable[str]] = None,
@@ -193,7 +190,8 @@ def report_record(result: dict, *, command: Optional[str] = None,
     for name, p in result["presentations"].items():
         presentations.append({key: p.get(key) for key in (
             "name", "generators", "relations", "expected_colength", "colength",
-            "classical_colength", "holds", "complete")} | {"notes": list(p.get("notes", []))})
+            "classical_colength", "holds", "holds_evidence", "holds_to_order", "complete",
+            "exact", "decided_by")} | {"notes": list(p.get("notes", []))})
     failed = [_failure_entry(name, failure, formulas)
               for name, p in result["presentations"].items()
               for failure in p.get("failures", [])]
@@ -229,7 +227,8 @@ def report_record(result: dict, *, command: Optional[str] = None,
             "q_line": certificate.get("q_line"), "order": certificate.get("order"),
             "method": certificate.get("method"),
             "exact": certificate.get("exact", False),
-            "kind": certificate.get("kind", "probabilistic"),
+            "kind": certificate.get("kind") or ("exact" if certificate.get("exact")
+                                                else "probabilistic"),
             "trials": [{"prime": t["prime"], "seed": t["seed"]}
                        for t in certificate.get("trials") or [certificate]],
         },
@@ -246,6 +245,14 @@ def _cell(value) -> str:
     text = {True: "yes", False: "**no**", None: "–"}.get(value, value) \
         if isinstance(value, (bool, type(None))) else str(value)
     return text.replace("|", "\\|")
+
+
+def _holds_cell(p: dict) -> str:
+    """`holds` is yes/no only on exact evidence; relations that merely vanish at the Bethe
+    points say to which order, and that this is not proven (docs/verdicts.md §3)."""
+    if p.get("holds") is None and p.get("holds_to_order"):
+        return f"to s^{p['holds_to_order']} at the points (not proven)"
+    return _cell(p.get("holds"))
 
 
 def _values(values) -> str:
@@ -284,7 +291,7 @@ def markdown_text(record: dict) -> str:
              f"- verdict: **{record['verdict']}** — {record['reason']}", "",
              "## Presentations", ""]
     rows = [[p["name"], p["generators"], p["relations"], p["expected_colength"],
-             _cell(p["colength"]), _cell(p["classical_colength"]), _cell(p["holds"]),
+             _cell(p["colength"]), _cell(p["classical_colength"]), _holds_cell(p),
              _cell(p["complete"]), "; ".join(p["notes"]) or "–"]
             for p in record["presentations"]]
     lines.append(tabulate(rows, headers=["presentation", "generators", "relations",
@@ -316,7 +323,7 @@ def markdown_text(record: dict) -> str:
               f"- q line q_i = c_i·s (points route): {_values(c['q_line'])}",
               f"- order: {'s^' + str(c['order']) if c['order'] else '–'}",
               f"- method: {c['method']}",
-              f"- {c['kind'] if c['kind'] else ('exact' if c['exact'] else 'probabilistic')}, "
+              f"- {c['kind']}, "
               f"{len(c['trials'])} trial(s): "
               + "; ".join(f"prime {t['prime']}, seed {t['seed']}" for t in c["trials"]),
               "", "Reproduce with:", "", "```sh", record["command"], "```"]

@@ -72,10 +72,20 @@ def flipped_result():
     return check_case(FL3, [whitney.FAMILY, FLIPPED], seed=SEED)
 
 
+SHIPPED = "presentations/files/examples/whitney-sign-error.toml"
+
+
 @pytest.fixture(scope="module")
 def shipped_result():
-    wrong = get_family("presentations/files/examples/whitney-sign-error.toml")
-    return check_case(FL3, [whitney.FAMILY, wrong], seed=SEED)
+    return check_case(FL3, [whitney.FAMILY, get_family(SHIPPED)], seed=SEED)
+
+
+@pytest.fixture(scope="module")
+def shipped_exact_result():
+    """The exact route alone (docs/verdicts.md §2): by default the Bethe points refute the
+    shipped conjecture first, and a presentation they refute gets no Gröbner basis, hence
+    no normal form; --method groebner gives the witnesses with normal forms."""
+    return check_case(FL3, [whitney.FAMILY, get_family(SHIPPED)], seed=SEED, method="groebner")
 
 
 def read_report(result, directory, **options):
@@ -125,21 +135,50 @@ def test_shipped_conjecture_report(shipped_result, tmp_path):
     expected = sympy_text(sympy_whitney_coefficient(FL3, 2, 2, below_sign=+1))
     assert failure["formula"] == expected and expected in markdown
 
-    witnesses = record["pairs"][0]["witnesses"]
-    ideal_witnesses = [w for w in witnesses if w["kind"] == "not in the other ideal"]
-    assert ideal_witnesses
-    for w in ideal_witnesses:
-        assert w["normal_form"] and f"`{w['normal_form']}`" in markdown
-        assert w["formula"] in markdown
-    assert any(w["kind"] == "fails at the Bethe points" for w in witnesses)
+    # The points refuted it (docs/verdicts.md §3): an exact witness naming the failing
+    # point and the power of s, and no Gröbner basis (so no normal form) for it.
+    pair = record["pairs"][0]
+    assert pair["verdict"] == "disagree" and pair["method"] == "Bethe points"
+    witnesses = pair["witnesses"]
+    assert witnesses and all(w["kind"] == "fails at the Bethe points" for w in witnesses)
+    assert witnesses[0]["relation_of"] == "whitney-sign-error"
+    assert witnesses[0]["relation"] == "level 2, y^2" and witnesses[0]["formula"] == expected
+    assert "fails at the Bethe points: at the point over {1} ⊂ {1,2}, from s^1 on" in markdown
+    assert rows["whitney-sign-error"]["colength"] is None
+    assert rows["whitney-sign-error"]["exact"] is True
 
     certificate = record["certificate"]
     for key in ("prime", "seed"):
         assert f"- {key}: {certificate[key]}" in markdown
     assert ", ".join(map(str, certificate["weights"])) in markdown
     assert ", ".join(map(str, certificate["q_line"])) in markdown
-    assert certificate["kind"] == "probabilistic" and certificate["exact"] is False
+    # an exact witness at a random specialisation: probabilistic only through that choice
+    assert certificate["exact"] is True
+    assert certificate["kind"] == "exact at a random specialisation (probabilistic)"
+    assert f"- {certificate['kind']}, 1 trial(s)" in markdown
     assert record["command"] in markdown and f"--seed {SEED}" in record["command"]
+
+
+def test_shipped_conjecture_exact_witnesses(shipped_exact_result, tmp_path):
+    """The exact route's witness: the shipped relation with its normal form modulo the
+    q-Whitney ideal, printed in the file grammar (compare.algebra.poly_text)."""
+    _, _, markdown, record = read_report(shipped_exact_result, tmp_path)
+    assert record["verdict"] == "disagree"
+    assert record["certificate"]["exact"] is True and record["certificate"]["method"] == \
+        "groebner"
+    pair = record["pairs"][0]
+    assert pair["method"] == "exact at a specialisation"
+    witnesses = pair["witnesses"]
+    assert witnesses and all(w["kind"] == "not in the other ideal" for w in witnesses)
+    expected = sympy_text(sympy_whitney_coefficient(FL3, 2, 2, below_sign=+1))
+    for w in witnesses:
+        assert (w["relation_of"], w["not_in"]) == ("whitney-sign-error", "whitney")
+        assert w["normal_form"] and f"`{w['normal_form']}`" in markdown
+        assert "**" not in w["normal_form"]
+        assert w["formula"] in markdown
+    assert [w["formula"] for w in witnesses if w["relation"] == "level 2, y^2"] == [expected]
+    assert not record["failed_relations"]          # no points were evaluated
+    assert "--method groebner" in record["command"]
 
 
 def test_json_is_the_markdown_record(shipped_result, tmp_path):
@@ -158,7 +197,7 @@ def test_the_printed_command_reproduces_the_result(shipped_result):
     assert words[:2] == ["ringmatch", "check"]
     out = io.StringIO()
     with contextlib.redirect_stdout(out):
-        assert cli_main(words[1:] + ["--json"]) == 0
+        assert cli_main(words[1:] + ["--json"]) == 1      # exit status 1: disagree
     again = json.loads(out.getvalue())
     assert again["verdict"] == shipped_result["verdict"]
     assert again["certificate"]["weights"] == shipped_result["certificate"]["weights"]
@@ -171,6 +210,37 @@ def test_agreement_has_no_witness_section(tmp_path):
     assert record["verdict"] == "agree"
     assert "Witnesses" not in markdown and not record["failed_relations"]
     assert (tmp_path / "P2.md").exists()
+
+
+def test_points_only_report_says_consistent_not_proven(tmp_path):
+    """With --method points nothing is decided exactly (docs/verdicts.md §3): the verdict is
+    `consistent`, and a presentation's relations are said to vanish to s^N, not to hold."""
+    result = check_case(parse_flag("P2"), [whitney.FAMILY, get_family("vieta")], seed=3,
+                        method="points")
+    _, _, markdown, record = read_report(result, tmp_path)
+    assert record["verdict"] == "consistent" and "**consistent**" in markdown
+    order = record["certificate"]["order"]
+    vieta = {p["name"]: p for p in record["presentations"]}["vieta"]
+    assert vieta["holds"] is None and vieta["holds_to_order"] == order
+    assert f"to s^{order} at the points (not proven)" in markdown
+    assert record["certificate"]["exact"] is False
+    assert "--method points" in record["command"] and f"--order {order}" in record["command"]
+
+
+def test_plain_points_check_reproduces_with_a_method_the_check_accepts():
+    """A plain check has no Bethe points (the fixed points collide when every T_j = 1), so
+    --method points ran neither route: the certificate says "none", which is no --method;
+    the printed command says points, and running it gives the same result."""
+    result = check_case(parse_flag("P2"), [whitney.FAMILY, get_family("vieta")], seed=3,
+                        method="points", equivariant=False)
+    assert result["verdict"] == "inconclusive" and result["certificate"]["method"] == "none"
+    words = shlex.split(report_record(result)["command"])
+    assert words[words.index("--method") + 1] == "points" and "--plain" in words
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        assert cli_main(words[1:] + ["--json"]) == 3      # exit status 3: inconclusive
+    again = json.loads(out.getvalue())
+    assert (again["verdict"], again["pairs"]) == (result["verdict"], result["pairs"])
 
 
 @pytest.mark.parametrize("case, equivariant, stem", [

@@ -74,11 +74,20 @@ def test_residues_are_printed_as_the_small_fractions_they_reduce_from():
 
 
 def test_witness_normal_forms_paste_back():
-    """Fl(1,2;3) is the first case where the shipped sign error shows (its header)."""
-    result = check_case(parse_flag("Fl(1,2;3)"),
-                        [get_family("whitney"), get_family("whitney-sign-error")], seed=3)
+    """Fl(1,2;3) is the first case where the shipped sign error shows (its header).  Normal
+    forms come from the exact route (docs/verdicts.md §2); by default the Bethe points refute
+    the sign error first (§3), and their witness is a failing point, with no normal form."""
+    families = [get_family("whitney"), get_family("whitney-sign-error")]
+    by_points = check_case(parse_flag("Fl(1,2;3)"), families, seed=3)
+    assert by_points["verdict"] == "disagree"
+    assert all("fails_at_points" in w and "normal_form" not in w
+               for pair in by_points["pairs"] for w in pair["witnesses"])
+    result = check_case(parse_flag("Fl(1,2;3)"), families, seed=3, method="groebner")
+    assert result["verdict"] == "disagree"
     witnesses = [w for pair in result["pairs"] for w in pair["witnesses"] if "normal_form" in w]
     assert witnesses
+    assert all(w["relation_of"] == "whitney-sign-error" and w["not_in"] == "whitney"
+               for w in witnesses)
     presentation = build_symbolic(get_family("whitney"), parse_flag("Fl(1,2;3)"))
     generators = [(g.name, g.meaning.text) for g in presentation.generators]
     texts = [w["normal_form"] for w in witnesses]
