@@ -94,6 +94,15 @@ def _is_row(item: dict) -> bool:
     return "result" in item and "verdict" in item
 
 
+def _named_presentations(item):
+    """A result whose presentations are a list of records (a discrepancy report's JSON),
+    with them keyed by name as in `check --json`."""
+    if isinstance(item, dict) and isinstance(item.get("presentations"), list) and all(
+            isinstance(p, dict) and "name" in p for p in item["presentations"]):
+        item = dict(item, presentations={p["name"]: p for p in item["presentations"]})
+    return item
+
+
 def _rows_from_json(path: Path) -> List[dict]:
     try:
         data = json.loads(path.read_text(encoding="utf-8"))
@@ -102,7 +111,12 @@ def _rows_from_json(path: Path) -> List[dict]:
     except json.JSONDecodeError as error:
         raise SourceError(f"{path}:{error.lineno}:{error.colno}: not valid JSON "
                           f"({error.msg})") from None
+    # `sweep --json` wraps its results in {"cases": [...]}; `check --json` is one result;
+    # `check --report` writes one result whose presentations are a list of named records.
+    if isinstance(data, dict) and isinstance(data.get("cases"), list) and "verdict" not in data:
+        data = data["cases"]
     items = data if isinstance(data, list) else [data]
+    items = [_named_presentations(item) for item in items]
     rows = []
     for index, item in enumerate(items):
         if not isinstance(item, dict) or not ("case" in item and "verdict" in item):
