@@ -1,6 +1,8 @@
 """Agreement map (reports/figures.py): rendered files, stored provenance, layout, palette.
 
-The cases are real `check_case` results with all three verdicts.
+The cases are real `check_case` results with all four verdicts (docs/verdicts.md): the exact
+route's agree and disagree, `consistent` from the Bethe points alone (--method points), and
+`inconclusive` from an exact route stopped by its time budget.
 """
 from __future__ import annotations
 
@@ -22,19 +24,20 @@ from ringmatch.reports.frames import frame_record, row_from_result  # noqa: E402
 
 from conftest import run_cli  # noqa: E402
 
-CASES = [("P1", ("whitney", "vieta"), "auto"), ("P2", ("whitney", "vieta"), "auto"),
-         ("Gr(2;4)", ("whitney", "vieta"), "auto"),
-         ("Fl(1,2;3)", ("whitney", "whitney-sign-error"), "auto"),
-         ("Fl(1,3;4)", ("whitney", "whitney-sign-error"), "auto"),
-         ("Fl(2,3;4)", ("whitney", "vieta"), "points"),
-         ("Fl(1,2;4)", ("whitney", "vieta"), "points")]
+# (case, presentations, method, budget in seconds for the exact route)
+CASES = [("P1", ("whitney", "vieta"), "auto", None), ("P2", ("whitney", "vieta"), "auto", None),
+         ("Gr(2;4)", ("whitney", "vieta"), "auto", None),
+         ("Fl(1,2;3)", ("whitney", "whitney-sign-error"), "auto", None),
+         ("Fl(1,3;4)", ("whitney", "whitney-sign-error"), "auto", None),
+         ("Fl(2,3;4)", ("whitney", "vieta"), "points", None),     # points alone: consistent
+         ("Fl(1,2;4)", ("whitney", "vieta"), "groebner", 1e-6)]   # budget gone: inconclusive
 
 
 @pytest.fixture(scope="module")
 def rows():
     return [row_from_result(check_case(parse_flag(case), [get_family(n) for n in names],
-                                       seed=9, method=method))
-            for case, names, method in CASES]
+                                       seed=9, method=method, budget=budget))
+            for case, names, method, budget in CASES]
 
 
 def hex_rgb(colour):
@@ -47,8 +50,10 @@ def pixels_near(image, rgb, tolerance=12):
                if all(abs(a - b) <= tolerance for a, b in zip(pixel, rgb)))
 
 
-def test_verdicts_cover_all_three(rows):
-    assert {row["verdict"] for row in rows} == {"agree", "disagree", "inconclusive"}
+def test_verdicts_cover_all_four(rows):
+    assert [row["verdict"] for row in rows] == ["agree"] * 3 + ["disagree"] * 2 + \
+        ["consistent", "inconclusive"]
+    assert set(VERDICT_STYLES) == {row["verdict"] for row in rows}
 
 
 def test_png_size_content_and_metadata(rows, tmp_path):
@@ -60,6 +65,9 @@ def test_png_size_content_and_metadata(rows, tmp_path):
         assert len(colours) > 20                                # antialiased, not blank
         for verdict in ("agree", "disagree", "inconclusive"):
             assert pixels_near(image, hex_rgb(VERDICT_STYLES[verdict].colour)) > 20, verdict
+        # one small triangle (and its legend entry) at 100 dpi: a dozen pixels; the test of
+        # `consistent` below counts it at 200 dpi
+        assert pixels_near(image, hex_rgb(VERDICT_STYLES["consistent"].colour)) > 5
         background = max(colours)[1]
         assert background == (255, 255, 255)
     text = stored_provenance(path)
@@ -69,6 +77,8 @@ def test_png_size_content_and_metadata(rows, tmp_path):
     # the note printed under the plot is stored too: presentations, sizes, count
     assert "note: whitney, vieta | whitney, whitney-sign-error (equivariant)" in text
     assert "note: 7 cases, 2 ≤ n ≤ 4, rank ≤ 12" in text
+    assert "note: consistent: relations vanish at the Bethe points to order s^6; not proven" \
+        in text
 
 
 @pytest.mark.parametrize("suffix", ["svg", "pdf"])
@@ -128,6 +138,8 @@ def test_consistent_is_its_own_verdict_never_agreement(rows, tmp_path):
     """`consistent` (relations vanish at the Bethe points to order s^N, not proven) has its
     own colour, marker and legend entry, and is not counted with `agree`."""
     assert VERDICT_STYLES["consistent"].colour != VERDICT_STYLES["agree"].colour
+    assert VERDICT_STYLES["consistent"].marker != VERDICT_STYLES["agree"].marker
+    # the points-only row of the fixture, and one more made by relabelling an agreement
     altered = [dict(row) for row in rows]
     agreeing = [i for i, row in enumerate(altered) if row["verdict"] == "agree"]
     altered[agreeing[0]] = dict(altered[agreeing[0]], verdict="consistent")
@@ -135,9 +147,12 @@ def test_consistent_is_its_own_verdict_never_agreement(rows, tmp_path):
     with Image.open(path) as image:
         assert pixels_near(image, hex_rgb(VERDICT_STYLES["consistent"].colour)) > 20
     svg = agreement_map(altered, tmp_path / "map.svg").read_text()
-    agree = sum(row["verdict"] == "agree" for row in altered)
-    assert "<!-- consistent (1) -->" in svg and f"<!-- agree ({agree}) -->" in svg
+    assert "<!-- consistent (2) -->" in svg and "<!-- agree (2) -->" in svg
     assert "not proven" in stored_provenance(path)
+    only_agree = agreement_map([row for row in rows if row["verdict"] == "agree"],
+                               tmp_path / "agree.svg")
+    assert "<!-- consistent" not in only_agree.read_text()
+    assert "not proven" not in stored_provenance(only_agree)
 
 
 def test_selection_of_rows(rows, tmp_path):
