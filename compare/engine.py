@@ -716,22 +716,24 @@ def exact_reports(families: Sequence[Family], flag: FlagType,
                         f"the q-Whitney ideal has colength {ref.colength} ≠ rank {flag.rank} at "
                         "this specialisation (an unlucky draw): no exact route; try another seed")
                 return
-            vieta_status = None
-            for family in families:
+            vieta = get_family("vieta")
+            # Every other family first, so that bethe can reuse vieta's status.
+            for family in sorted(families, key=lambda f: f.solved_by_points):
                 report = reports[family.name]
                 if status[family.name].equal is False:
                     continue      # refuted by the points: no Gröbner basis needed
                 if family.solved_by_points:
-                    if vieta_status is None:
-                        vieta = get_family("vieta")
+                    if not (vieta.name in status and any(f is vieta for f in families)
+                            and status[vieta.name].exact):
                         probe = PresentationReport(vieta.name, 0, 0, flag.rank,
                                                    separates=report.separates)
-                        vieta_status = exact_status(vieta, flag, residues, ref, probe)
-                    status[family.name] = _through_vieta(vieta_status, report, flag)
+                        status[vieta.name + " (for bethe)"] = exact_status(
+                            vieta, flag, residues, ref, probe)
+                    through = status.get(vieta.name + " (for bethe)") or status[vieta.name]
+                    status[family.name] = _through_vieta(through, report, flag)
                     continue
                 status[family.name] = exact_status(family, flag, residues, ref, report)
-                if report.fixed_points_ok is not None or not family.solved_by_points:
-                    classical_colength(family, flag, residues, report)
+                classical_colength(family, flag, residues, report)
     except groebner.BudgetExceeded:
         for family in families:
             if status[family.name].equal is None:
