@@ -21,13 +21,17 @@ DataFrame columns (one row per stored case, in sweep order):
     rank            number of torus-fixed points (multinomial coefficient)
     equivariant     bool
     presentations   tuple of presentation names as compared
-    verdict         "agree" | "disagree" | "inconclusive"
+    verdict         "agree" | "consistent" | "disagree" | "inconclusive"
     reason          why, in words ("limit: …" for a case stopped by a resource limit)
-    method          groebner | points | both (how the verdict was reached)
+    method          groebner | points | both | none (the routes that ran)
     order           truncation order N of the Bethe points (None without points)
     trials          number of independent trials
-    exact           bool (False: probabilistic, with the certificate's prime and seed)
-    certificate     "probabilistic" or "exact"
+    exact           bool: the verdict was decided exactly at a random specialisation mod p
+                    (docs/verdicts.md §2-3; wrong only through that random choice)
+    certificate     one word for the evidence (`certificate_word`): "exact" (exact at a
+                    random specialisation), "not proven" (the Bethe points to order s^N
+                    only), "none" (not decided); rows stored before the exact verdicts
+                    keep their word ("probabilistic")
     prime           prime of the first trial
     primes          tuple of the primes of all trials
     seed            seed of the first trial
@@ -66,6 +70,28 @@ SWEEP_KEY_DIGITS = 8
 
 class SourceError(InputError):
     """A results source that cannot be read: one line naming the file and the problem."""
+
+
+# The certificate's kind (compare.engine) in one word for tables and frames.  The engine's
+# own text says the same at length; a table cell cannot.
+CERTIFICATE_WORDS = ("exact", "not proven", "none")
+
+
+def certificate_word(certificate: dict) -> str:
+    """"exact" when the verdict was decided exactly at a random specialisation (agree, or
+    disagree with a witness), "not proven" when only the Bethe points to order s^N speak for
+    it (consistent), "none" when nothing was decided; the old words of earlier stores
+    ("probabilistic", "exact") are kept as they are."""
+    kind = certificate.get("kind") or ""
+    if kind in ("probabilistic", "exact"):
+        return kind
+    if certificate.get("exact"):
+        return "exact"
+    if kind.startswith("Bethe points"):
+        return "not proven"
+    if kind == "not decided":
+        return "none"
+    return "probabilistic" if not kind else kind
 
 
 def flag_kind(flag: FlagType) -> str:
@@ -183,7 +209,7 @@ def frame_record(row: dict) -> dict:
         "verdict": row["verdict"], "reason": row.get("reason", ""),
         "method": certificate.get("method"), "order": certificate.get("order"),
         "trials": len(trials), "exact": exact,
-        "certificate": certificate.get("kind") or ("exact" if exact else "probabilistic"),
+        "certificate": certificate_word(certificate),
         "prime": certificate.get("prime"),
         "primes": tuple(t.get("prime") for t in trials),
         "seed": certificate.get("seed"), "seconds": row.get("seconds"),

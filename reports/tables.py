@@ -71,7 +71,7 @@ COLUMNS: Dict[str, Column] = {c.key: c for c in (
     Column("method", "method", "method", "l", lambda r: r["method"] or ""),
     Column("order", "order", "order", "r", lambda r: str(r["order"] or "")),
     Column("trials", "trials", "trials", "r", lambda r: str(r["trials"])),
-    Column("exactness", "exact/probabilistic", "exact/prob.", "l", lambda r: r["certificate"]),
+    Column("exactness", "exactness", "exactness", "l", lambda r: r["certificate"]),
     Column("certificate", "certificate", "certificate", "l", _certificate_summary),
     Column("prime", "prime", "prime", "r", lambda r: str(r["prime"] or "")),
     Column("seed", "seed", "seed", "r", lambda r: str(r["seed"] if r["seed"] is not None else "")),
@@ -212,13 +212,68 @@ _CAPTION_COLUMNS = ("presentations", "equivariant", "kind", "n", "method", "orde
 
 
 def _certificate_part(key: str, r: dict) -> str:
+    """One part of the certificate cell, in LaTeX."""
     if key == "method":
-        return r["method"] or ""
+        return latex_escape(r["method"] or "")
     if key == "order":
         return f"$s^{{{r['order']}}}$" if r["order"] else ""
     if key == "trials":
         return f"{r['trials']} trial" + ("s" if r["trials"] != 1 else "")
-    return r["certificate"]
+    return latex_escape(r["certificate"])
+
+
+# What the certificate words (reports.frames.certificate_word) mean, for captions
+# (docs/verdicts.md §2-3).  "exact" does not speak for itself: it is said once per table.
+EXACT_MEANING = (r"decided exactly at a random specialisation mod $p$, so wrong only with "
+                 r"probability at most degree$/p$")
+_CERTIFICATE_FACTS = {"exact": "exact certificates", "not proven": "not proven (Bethe points "
+                      "only)", "none": "nothing decided"}
+# The fact "exactness" stated per verdict in the caption instead of in every row.
+BY_VERDICT = "exactness by verdict"
+
+
+def _exactness_by_verdict(records: Sequence[dict]) -> Optional[Dict[str, str]]:
+    """{verdict: certificate word} when the word is the same for every row of a verdict (as
+    the engine makes it: agree and disagree exact, consistent not proven, inconclusive
+    none), else None."""
+    words: Dict[str, str] = {}
+    for r in records:
+        if words.setdefault(r["verdict"], r["certificate"]) != r["certificate"]:
+            return None
+    return words
+
+
+def _verdict_list(verdicts: Sequence[str]) -> str:
+    quoted = [rf"\emph{{{latex_escape(v)}}}" for v in verdicts]
+    return " and ".join(quoted) if len(quoted) <= 2 else \
+        ", ".join(quoted[:-1]) + " and " + quoted[-1]
+
+
+def _certificate_sentences(records: Sequence[dict], facts: Sequence[str],
+                           shown: bool) -> List[str]:
+    """What the caption says about the certificates: per verdict when that decides them
+    (BY_VERDICT), and what "exact" means wherever it appears (`shown`: in the rows)."""
+    if BY_VERDICT in facts:
+        by_word: Dict[str, List[str]] = {}
+        for verdict, word in (_exactness_by_verdict(records) or {}).items():
+            by_word.setdefault(word, []).append(verdict)
+        sentences = []
+        for word, verdicts in by_word.items():
+            verdicts = [v for v in VERDICTS if v in verdicts] + \
+                sorted(set(verdicts) - set(VERDICTS))
+            if word == "exact":
+                sentences.append(f"{_verdict_list(verdicts)}: {EXACT_MEANING}.")
+            elif (word, verdicts) in (("not proven", ["consistent"]),
+                                      ("none", ["inconclusive"])):
+                continue      # the verdict says it (consistent is explained above)
+            else:
+                phrase = _CERTIFICATE_FACTS.get(word) or f"{latex_escape(word)} certificates"
+                sentences.append(f"{_verdict_list(verdicts)}: {phrase}.")
+        return sentences
+    exact_stated = "exactness" in facts and records and records[0]["certificate"] == "exact"
+    if exact_stated or shown and any(r["certificate"] == "exact" for r in records):
+        return [rf"\emph{{exact}}: {EXACT_MEANING}."]
+    return []
 
 
 def _same(values) -> bool:
@@ -257,13 +312,17 @@ def latex_layout(table: Table, options: TableOptions) -> LatexLayout:
     facts: List[str] = []
     certificate_shown: List[str] = []
     common: Tuple[str, ...] = ()
-    for key in [c.key for c in table.headings]:
+    shown_keys = [c.key for c in table.headings]
+    for key in shown_keys:
         if key == "certificate":
             for part in _CERTIFICATE_PARTS:
                 values = [_certificate_part(part, r) for r in records]
                 if _same(values):
                     if values and values[0]:
                         facts.append(part)
+                elif part == "exactness" and "verdict" in shown_keys and \
+                        _exactness_by_verdict(records) is not None:
+                    facts.append(BY_VERDICT)      # the verdict column already says it
                 else:
                     certificate_shown.append(part)
             if certificate_shown:
@@ -314,7 +373,8 @@ def latex_layout(table: Table, options: TableOptions) -> LatexLayout:
             headings.append(COLUMNS[key].latex_heading)
     align = "".join(COLUMNS[key].align for key in keys)
     cells = [[cell(key, r) for key in keys] for r in records]
-    caption = _latex_caption(table, options, facts, common, keys)
+    caption = _latex_caption(table, options, facts, common, keys,
+                             "exactness" in certificate_shown)
     if lettered:
         column = r"\emph{with}" if common else r"\emph{presentations}"
         caption += f" Column {column}: " + "; ".join(
@@ -338,7 +398,8 @@ def distinct_in_order(values) -> list:
 
 
 def _latex_caption(table: Table, options: TableOptions, facts: Sequence[str],
-                   common: Tuple[str, ...], keys: Sequence[str] = ()) -> str:
+                   common: Tuple[str, ...], keys: Sequence[str] = (),
+                   exactness_in_rows: bool = False) -> str:
     records = table.records
     first = records[0] if records else None
     if options.caption:
@@ -368,7 +429,8 @@ def _latex_caption(table: Table, options: TableOptions, facts: Sequence[str],
             settled.append(f"{first['trials']} trial{'s' if first['trials'] != 1 else ''} "
                            "per case")
         if "exactness" in facts:
-            settled.append(f"{latex_escape(first['certificate'])} certificates")
+            settled.append(_CERTIFICATE_FACTS.get(first["certificate"]) or
+                           f"{latex_escape(first['certificate'])} certificates")
         if "kind" in facts and len(records) > 1:
             settled.append(f"all {latex_escape(first['kind'])}")
         if "n" in facts and len(records) > 1:
@@ -383,6 +445,8 @@ def _latex_caption(table: Table, options: TableOptions, facts: Sequence[str],
     if any(r["verdict"] == "consistent" for r in records):
         sentences.append(r"\emph{consistent}: every relation vanishes at every Bethe point "
                          "to the stated order; evidence, not a proof.")
+    sentences += _certificate_sentences(records, facts,
+                                        exactness_in_rows or "exactness" in keys)
     return " ".join(sentences)
 
 

@@ -1,7 +1,8 @@
 """Appendix tables and the DataFrame API (reports/tables.py, reports/frames.py).
 
 The rows are real `check_case` results (an agreement, a disagreement with the shipped wrong
-conjecture, an inconclusive points-only check), in the shape the sweeps' store returns.
+conjecture, a points-only check, which is `consistent`: docs/verdicts.md §3), in the shape the
+sweeps' store returns.
 The LaTeX output is compiled with a real TeX engine.
 """
 from __future__ import annotations
@@ -28,7 +29,7 @@ from conftest import run_cli
 
 CASES = [("P2", ("whitney", "vieta"), "auto", 3),
          ("Fl(1,2;3)", ("whitney", "whitney-sign-error"), "auto", 4),
-         ("Gr(2;4)", ("whitney", "vieta"), "points", 5)]   # points alone leave vieta undecided
+         ("Gr(2;4)", ("whitney", "vieta"), "points", 5)]   # points alone: consistent, not agree
 
 
 @pytest.fixture(scope="module")
@@ -60,14 +61,16 @@ def test_frame_columns_and_values(rows):
     frame = results_frame(rows)
     assert list(frame.columns) == list(FRAME_COLUMNS)
     assert list(frame["case"]) == ["P2", "Fl(3)", "Gr(2;4)"]
-    assert list(frame["verdict"]) == ["agree", "disagree", "inconclusive"]
+    assert list(frame["verdict"]) == ["agree", "disagree", "consistent"]
     # Standard fact (docs/mathematics.md §1): rank = n!/(k_1! d_1! ⋯ d_m!), computed here directly.
     for _, r in frame.iterrows():
         assert r["rank"] == multinomial(r["n"], r["dims"])
         assert sum(r["steps"]) == r["n"] and len(r["steps"]) == r["m"] + 1
     assert list(frame["kind"]) == ["grassmannian", "complete", "grassmannian"]
     assert list(frame["method"]) == ["both", "both", "points"]
-    assert not frame["exact"].any() and set(frame["certificate"]) == {"probabilistic"}
+    # agree and disagree are decided exactly at the specialisation; the points prove nothing
+    assert list(frame["exact"]) == [True, True, False]
+    assert list(frame["certificate"]) == ["exact", "exact", "not proven"]
     assert list(frame["seed"]) == [seed for *_, seed in CASES]
 
 
@@ -134,13 +137,15 @@ def test_latex_short_and_long_forms(rows):
         assert rule in short
     # what every row shares is said once, in the caption, which says what was compared
     caption = short.split(r"\caption{", 1)[1].split("}\n", 1)[0]
-    assert r"Bethe points to order $s^{6}$; 1 trial per case; probabilistic certificates" \
-        in caption
+    assert r"Bethe points to order $s^{6}$; 1 trial per case." in caption
     assert r"\texttt{whitney} against the presentations in column \emph{with}" in caption
-    assert "3 cases: 1 agree, 1 disagree, 1 inconclusive." in caption
+    assert "3 cases: 1 agree, 1 consistent, 1 disagree." in caption
+    # the certificate follows from the verdict: said once, not in every row
+    assert r"\emph{agree} and \emph{disagree}: decided exactly at a random specialisation " \
+        r"mod $p$, so wrong only with probability at most degree$/p$." in caption
     assert r"\label{tab:ringmatch}" in short
     body = short.split(r"\midrule", 1)[1].split(r"\bottomrule")[0]
-    assert "probabilistic" not in body and "whitney" not in body
+    assert "exact" not in body and "proven" not in body and "whitney" not in body
     # a long presentation name would set the table's width: letters, spelled out in the caption
     assert r"Column \emph{with}: (a) \texttt{vieta}; (b) \texttt{whitney-sign-error}." in caption
     assert body.splitlines()[1].startswith(r"$\mathbb{P}^{2}$ & 3 & (a) & agree & both")
@@ -159,13 +164,29 @@ def test_latex_short_and_long_forms(rows):
 
 
 def test_consistent_is_its_own_word_and_not_counted_as_agreement(rows):
-    changed = [dict(rows[0], verdict="consistent")] + rows[1:]
-    text = latex_table(build_table(changed))
+    text = latex_table(build_table(rows))
     caption = text.split(r"\caption{", 1)[1].split("}\n", 1)[0]
-    assert "3 cases: 1 consistent, 1 disagree, 1 inconclusive." in caption
+    assert "3 cases: 1 agree, 1 consistent, 1 disagree." in caption
     assert r"\emph{consistent}: every relation vanishes at every Bethe point" in caption
-    assert r"$\mathbb{P}^{2}$ & 3 & (a) & consistent" in text
-    assert "1 consistent" in markdown_table(build_table(changed)).splitlines()[0]
+    assert r"$\mathrm{Gr}(2,4)$ & 6 & (a) & consistent & points" in text
+    assert "1 agree, 1 consistent" in markdown_table(build_table(rows)).splitlines()[0]
+    without = latex_table(build_table(rows[:2]))
+    assert "consistent" not in without and "2 cases: 1 agree, 1 disagree." in without
+
+
+def test_certificate_in_the_rows_when_the_verdict_does_not_decide_it(rows):
+    """A `consistent` row with an exact certificate (as no check makes it, but a mixed store
+    could hold): the verdict no longer tells the certificate, so every row states it."""
+    relabelled = [dict(rows[0], verdict="consistent")] + rows[1:]
+    text = latex_table(build_table(relabelled))
+    caption = text.split(r"\caption{", 1)[1].split("}\n", 1)[0]
+    assert "method, certificate" in text
+    assert r"$\mathbb{P}^{2}$ & 3 & (a) & consistent & both, exact" in text
+    assert r"$\mathrm{Gr}(2,4)$ & 6 & (a) & consistent & points, not proven" in text
+    assert r"\emph{exact}: decided exactly at a random specialisation mod $p$" in caption
+    csv_text = render(rows, "csv", TableOptions(columns=parse_columns("case,certificate")))
+    assert "Gr(2;4),\"s^6, 1 trial, not proven\"" in csv_text
+    assert "P2,\"s^6, 1 trial, exact\"" in csv_text
 
 
 def test_relations_of_small_cases_in_display_math(rows):
@@ -259,7 +280,7 @@ def test_cli_table_csv(results_file):
     run = run_cli("table", str(results_file), "--format", "csv", "--columns", "case,verdict")
     assert run.returncode == 0, run.stderr
     lines = run.stdout.splitlines()
-    assert lines[:4] == ["case,verdict", "P2,agree", "Fl(3),disagree", "Gr(2;4),inconclusive"]
+    assert lines[:4] == ["case,verdict", "P2,agree", "Fl(3),disagree", "Gr(2;4),consistent"]
     assert any(line.startswith("# produced by: ringmatch table") for line in lines)
 
 
