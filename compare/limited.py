@@ -106,7 +106,7 @@ def _child(writer, work, memory_mib) -> None:
 @contextlib.contextmanager
 def stage_lines(subject: str, stream=None, enabled: bool = True):
     """Print a line on stderr as each stage of a check starts and ends (the Bethe points,
-    the Gröbner bases), by wrapping the engine's stage functions for the duration."""
+    the exact route), by wrapping the engine's stage functions for the duration."""
     from . import engine
     stream = stream if stream is not None else sys.stderr
     stages = {"points_reports": "Bethe points",

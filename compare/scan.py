@@ -2,16 +2,21 @@
 
 For every grid point (an assignment of the parameters) and case the scan records what
 `check_case` says about the file's presentation next to a reference (default `whitney`):
-colength at a random specialisation, classical colength, whether the relations hold at the
-Bethe points, and the verdict.  Only the verdict word `agree` counts as agreement;
-`consistent`, `inconclusive` and anything else do not.
+colength at a random specialisation, classical colength, whether the relations hold, and the
+verdict.  Only the verdict word `agree` counts as agreement; `consistent`, `inconclusive` and
+anything else do not.
 
 Cost.  Most grid points of a wrong guess fail at the Bethe points already.  So a point is
-first checked with the points alone (no Gröbner basis); when its relations fail there it
-disagrees with the reference — the reference's ring is the ring of functions on those points,
-so a relation that does not vanish at one of them is not in the reference's ideal — and it is
-stored as such, without colengths.  `--colengths` computes them for every point instead (to
-tabulate the number of solutions at every level), at the price of a Gröbner basis each.
+first checked with the points alone (no Gröbner basis); when a relation fails there and the
+engine concludes `disagree` from it (an exact refutation with a witness: the points are
+points of the quantum K ring, so a relation that does not vanish at one of them is not in
+its ideal), the point is stored as such, without colengths.  Every other point gets the
+engine's automatic check (its exact route).  `--colengths` runs the automatic check on every
+point instead and then computes, with `colengths_at`, whatever colength the engine did not
+need (it computes none for a presentation the points refute) — to tabulate the number of
+solutions at every level, at the price of a Gröbner basis each.  These colengths are
+computed in the scan's own process after the check (under the same --case-timeout and
+--case-memory, in a forked child when a limit is given), at the check's specialisation.
 
 Store.  Every (case, point) is one row of the results store, under the settings of a sweep of
 the reference and the file with the point's values (compare/store.py), plus the colength
@@ -33,7 +38,7 @@ from typing import Callable, Dict, List, Optional, Sequence, Tuple
 from ringmatch.errors import UsageError
 from ringmatch.presentations.flagtype import FlagType
 
-from . import store
+from . import limited, store
 from .sweep import (CaseTask, Limits, Source, case_order, family_of, load_sources,
                     needs_computing, run_local, unsupported_reasons)
 
@@ -60,7 +65,8 @@ class ScanPlan:
     points: List[Point]
     flags: List[FlagType]
     skipped: List[Tuple[str, str]]
-    settings: dict                       # seed, prime, equivariant, order, trials, colengths
+    settings: dict                       # seed, prime, equivariant, order (None: the
+                                         # engine's), trials, colengths
 
     def values(self, point: Point) -> Dict[str, int]:
         """Every parameter's value at this point (varied, fixed and defaults)."""
@@ -198,7 +204,8 @@ def point_text(point: Point) -> str:
 def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney",
               fixed: Optional[Dict[str, int]] = None,
               vary: Sequence[Tuple[str, Tuple[int, ...]]] = (), seed: int = 0,
-              prime: Optional[int] = None, equivariant: bool = True, order: int = 6,
+              prime: Optional[int] = None, equivariant: bool = True,
+              order: Optional[int] = None,
               trials: int = 1, colengths: bool = False, per_step: bool = False,
               max_grid: int = DEFAULT_MAX_GRID) -> ScanPlan:
     """Everything checked before any computation: the file, the values, the grid's size."""
@@ -230,7 +237,8 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
     points = grid_points(axes)
     plan = ScanPlan(name, reference_source, file_source.raw, spec, fixed, axes, points, [], [],
                     {"seed": int(seed), "prime": int(prime or algebra.DEFAULT_PRIME),
-                     "equivariant": bool(equivariant), "order": int(order),
+                     "equivariant": bool(equivariant),
+                     "order": None if order is None else int(order),
                      "trials": int(trials), "colengths": bool(colengths)})
     probe = plan.sources(points[0])
     for flag in sorted(flags, key=case_order):
@@ -261,25 +269,118 @@ def point_record(plan: ScanPlan, flag: FlagType, point: Point, result: dict,
               "verdict": result.get("verdict", "inconclusive"),
               "reason": result.get("reason", ""),
               "refuted_by_points": refuted, "seconds": round(float(seconds), 3)}
-    for key in ("holds_exact", "holds_order"):
+    for key in ("holds_evidence", "holds_to_order"):
         if key in report:
             record[key] = report[key]
+    if "exact" in result:
+        record["exact"] = result["exact"]
+    note = result.get("scan", {}).get("colengths")
+    if note:
+        record["colengths_note"] = note
     return record
 
 
 def refuted_at_points(plan: ScanPlan, point: Point, result: dict) -> bool:
+    """Whether a relation (or a declared unit) of the file fails at a Bethe point — an exact
+    refutation, as the engine's `points_status` reads it."""
     report = result.get("presentations", {}).get(plan.family_name(point), {})
-    return report.get("holds") is False
+    return report.get("holds") is False and bool(report.get("failures"))
 
 
 def refutation(result: dict, plan: ScanPlan, point: Point) -> dict:
-    """A points-only result turned into the stored disagreement."""
+    """A points-only result that disagrees (the engine's verdict, from a relation failing at
+    a Bethe point), marked as the scan stores it: no Gröbner basis, no colengths."""
     out = dict(result)
-    out["verdict"] = "disagree"
-    out["reason"] = (f"{plan.family_name(point)}: some relations do not vanish at the Bethe "
-                     "points of the reference (no Gröbner basis computed)")
+    name = plan.family_name(point)
+    witness = next((p.get("reason") for p in result.get("pairs", [])
+                    if p.get("verdict") == "disagree"), None)
+    failures = result.get("presentations", {}).get(name, {}).get("failures") or [{}]
+    relation = failures[0].get("relation")
+    out["reason"] = (witness or f"{name}: " + (f"{relation} does not vanish" if relation else
+                                               "some relations do not vanish")
+                     + " at a Bethe point") + " (no Gröbner basis computed)"
     out["scan"] = {"refuted_by_points": True}
     return out
+
+
+def colengths_at(family, flag: FlagType, *, seed: int, prime: int, equivariant: bool,
+                 fixed_points_ok: bool = False, quantum: bool = True,
+                 classical: bool = True) -> dict:
+    """The colength (units inverted) of the family at the specialisation a check with this
+    seed and prime uses (its first trial), and the classical colength (q = 0): the numbers
+    the engine leaves out for a presentation the Bethe points refute.  Each is an int or
+    "infinite"; a Gröbner basis each (compare.engine.colength_with_units).  `quantum` /
+    `classical` False leave that one out (None)."""
+    from . import algebra, engine
+    spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime,
+                                       equivariant=equivariant)
+    out = {"colength": None, "colength_method": None,
+           "classical_colength": None, "classical_method": None}
+    if quantum:
+        out["colength"], out["colength_method"] = engine.colength_with_units(
+            family, flag, spec, None)
+    if classical:
+        out["classical_colength"], out["classical_method"] = engine.colength_with_units(
+            family, flag, engine.classical(spec),
+            "the fixed points" if fixed_points_ok else None)
+    return out
+
+
+def missing_colengths(plan: ScanPlan, point: Point, result: dict) -> bool:
+    report = result.get("presentations", {}).get(plan.family_name(point))
+    return report is not None and (report.get("colength") is None
+                                   or report.get("classical_colength") is None)
+
+
+def with_colengths(plan: ScanPlan, flag: FlagType, point: Point, result: dict,
+                   limits: Limits) -> dict:
+    """The check result with the file's missing colengths computed (`colengths_at`, at the
+    check's seed and prime, under the scan's limits); a colength the check computed is
+    kept.  A limit that stops the computation leaves them missing and says so."""
+    if not missing_colengths(plan, point, result):
+        return result
+    name = plan.family_name(point)
+    report = result["presentations"][name]
+    certificate = result.get("certificate", {})
+    family = family_of(plan.source(point))
+
+    def work() -> dict:
+        return colengths_at(family, flag, seed=certificate["seed"],
+                            prime=certificate["prime"],
+                            equivariant=result.get("equivariant", plan.settings["equivariant"]),
+                            fixed_points_ok=bool(report.get("fixed_points_ok")),
+                            quantum=report.get("colength") is None,
+                            classical=report.get("classical_colength") is None)
+
+    try:
+        computed = limited.run_limited(work, seconds=limits.seconds,
+                                       memory_mib=limits.memory_mib)
+    except Exception as error:      # stored with the point, like a case's error in a sweep
+        computed = limited.Stopped(f"error: {type(error).__name__}: {error}")
+    out = dict(result)
+    out["presentations"] = dict(result["presentations"])
+    new = dict(report)
+    if isinstance(computed, limited.Stopped):
+        note = f"colengths not computed: {computed.reason}"
+    else:
+        note = "computed by the scan (--colengths) at the check's specialisation"
+        for key, method in (("colength", "colength_method"),
+                            ("classical_colength", "classical_method")):
+            if new.get(key) is None:
+                new[key] = computed[key]
+                new[method] = computed[method] + " (by the scan: the check did not need it)"
+    out["presentations"][name] = new
+    out["scan"] = dict(result.get("scan", {}), colengths=note)
+    if isinstance(computed, limited.Stopped):
+        out["scan"]["colength_limits"] = limits.record()
+    return out
+
+
+def colengths_again(row: dict, limits: Limits) -> bool:
+    """A stored point whose colengths a limit (or an error) stopped is computed again under
+    other limits, as a sweep does with a case that ran into a limit."""
+    scan_note = row["result"].get("scan", {})
+    return "colength_limits" in scan_note and scan_note["colength_limits"] != limits.record()
 
 
 def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: ScanOutcome,
@@ -291,7 +392,8 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
         if (flag.name, point) in outcome.results:
             continue
         row = store.stored_rows(conn, plan.store_settings(point)).get(flag.name)
-        if row is not None and not needs_computing(row, limits):
+        if row is not None and not needs_computing(row, limits) and \
+                not colengths_again(row, limits):
             result = row["result"]
             outcome.results[(flag.name, point)] = point_record(
                 plan, flag, point, result, bool(result.get("scan", {}).get("refuted_by_points")),
@@ -307,6 +409,9 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
     total = len(todo)
 
     def save(flag: FlagType, point: Point, result: dict, seconds: float, refuted: bool):
+        if result.get("presentations"):
+            result = dict(result)
+            result["scan"] = dict(result.get("scan", {}), refuted_by_points=refuted)
         store.save_result(conn, plan.store_settings(point), result, seconds, run=run)
         outcome.results[(flag.name, point)] = point_record(plan, flag, point, result, refuted,
                                                            seconds)
@@ -326,7 +431,7 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
             flag, point = todo[index]
             if not result.get("presentations"):
                 save(flag, point, result, seconds, False)     # a limit or an error: as is
-            elif refuted_at_points(plan, point, result):
+            elif result.get("verdict") == "disagree" and refuted_at_points(plan, point, result):
                 save(flag, point, refutation(result, plan, point), seconds, True)
             else:
                 second.append((flag, point))
@@ -337,7 +442,11 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
 
     def after_full(index: int, result: dict, seconds: float):
         flag, point = second[index]
-        save(flag, point, result, seconds, False)
+        if plan.settings["colengths"] and missing_colengths(plan, point, result):
+            begun = time.monotonic()
+            result = with_colengths(plan, flag, point, result, limits)
+            seconds += time.monotonic() - begun
+        save(flag, point, result, seconds, refuted_at_points(plan, point, result))
         return None
 
     if second:

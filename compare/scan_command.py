@@ -70,8 +70,9 @@ def add_arguments(parser, *, prime_argument, positive_int) -> None:
                         help="scan seed; each case's seed derives from it (default 0)")
     parser.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)
     parser.add_argument("--plain", action="store_true", help="non-equivariant: all T_j = 1")
-    parser.add_argument("--order", type=positive_int, default=6,
-                        help="truncation order N of the Bethe points")
+    parser.add_argument("--order", type=positive_int, default=None,
+                        help="truncation order N of the Bethe points (default: at least 6 and "
+                             "2 + the largest q-degree among the relations)")
     parser.add_argument("--trials", type=positive_int, default=1)
     parser.add_argument("--json", action="store_true",
                         help="one JSON object: parameters, points, agreeing_everywhere, …")

@@ -46,4 +46,6 @@ def test_stage_lines_name_each_stage(capsys):
     with limited.stage_lines("check P2", stream=lines):
         check_case(parse_flag("P2"), [get_family("whitney")], seed=1, method="both")
     text = lines.getvalue()
-    assert "check P2: Bethe points…" in text and "check P2: Gröbner bases done in" in text
+    assert "check P2: Bethe points…" in text and "check P2: Bethe points done in" in text
+    assert "check P2: exact route (Gröbner bases at a specialisation)…" in text
+    assert "check P2: exact route (Gröbner bases at a specialisation) done in" in text

@@ -19,6 +19,7 @@ import pytest
 import sympy
 
 from ringmatch.compare.engine import check_case
+from ringmatch.compare.scan import colengths_at
 from ringmatch.presentations import FAMILIES, get_family, userfile
 from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.presentations.interface import build_symbolic
@@ -195,7 +196,20 @@ def test_coulomb_levels_count_the_solutions_by_hand(case, n):
             family = get_family("coulomb-levels", {"a": a, "b": b})
             result = check_case(flag, [FAMILIES["whitney"], family], seed=5)
             report = result["presentations"][family.name]
-            assert report["colength"] == hand_count(n, a, b), (a, b)
+            # the scan's colengths (scan --colengths), at the check's specialisation
+            certificate = result["certificate"]
+            counted = colengths_at(family, flag, seed=certificate["seed"],
+                                   prime=certificate["prime"], equivariant=True)
+            assert counted["colength"] == hand_count(n, a, b), (a, b)
+            # at q = 0 every level is ∏ (x − T_j) = 0 (times a power of the unit x)
+            assert counted["classical_colength"] == n, (a, b)
+            # the check computes the colength itself unless the Bethe points refute the
+            # presentation (then it computes no Gröbner basis for it)
+            if report["colength"] is None:
+                assert report["holds"] is False and report["failures"], (a, b)
+                assert result["verdict"] == "disagree", (a, b)
+            else:
+                assert report["colength"] == counted["colength"], (a, b)
             # the same equation as level 0 exactly when a + b = 0 (det S_1 = x)
             assert (result["verdict"] == "agree") == (a + b == 0), (a, b, result["reason"])
 
@@ -310,14 +324,14 @@ def test_the_names_results_carry_resolve_again():
     assert get_family("coulomb-levels[a=1,a_2=-1,b=0]").name == "coulomb-levels[a=1,a_2=-1,b=0]"
     result = run_cli("check", "P1", "--presentations", "whitney,whitney-unknowns[sign=-1,power=0]",
                      "--json")
-    assert result.returncode == 0, result.stderr
+    assert result.returncode == 1, result.stderr          # exit status 1: disagree
     assert json.loads(result.stdout)["verdict"] == "disagree"
 
 
 def test_reports_repeat_the_values(tmp_path):
     result = run_cli("check", "P1", "--presentations", "whitney,whitney-unknowns",
                      "--set", "sign=-1", "--report", str(tmp_path))
-    assert result.returncode == 0, result.stderr
+    assert result.returncode == 1, result.stderr          # sign=-1 disagrees: exit status 1
     assert "--set sign=-1" in (tmp_path / "P1.md").read_text()
 
 
@@ -326,11 +340,14 @@ def test_sweep_values_are_part_of_the_store_key(tmp_path):
     base = ["sweep", "--cases", "P1", "--presentations", "whitney,whitney-unknowns",
             "--store", store, "--workers", "1", "--json"]
     first = run_cli(*base, "--set", "sign=-1")
-    assert first.returncode == 0, first.stderr
+    assert first.returncode == 1, first.stderr            # a case disagrees: exit status 1
     data = json.loads(first.stdout)
     assert data["counts"] == {"disagree": 1} and data["from_store"] == []
     assert data["settings"]["presentations"][1]["name"] == "whitney-unknowns[sign=-1,power=1]"
-    second = json.loads(run_cli(*base).stdout)          # the defaults: another key
+    second = run_cli(*base)                               # the defaults: another key
+    assert second.returncode == 0, second.stderr          # every case agrees: exit status 0
+    second = json.loads(second.stdout)
     assert second["counts"] == {"agree": 1} and second["from_store"] == []
-    third = json.loads(run_cli(*base, "--set", "sign=-1").stdout)
-    assert third["from_store"] == ["P1"]
+    third = run_cli(*base, "--set", "sign=-1")
+    assert third.returncode == 1, third.stderr
+    assert json.loads(third.stdout)["from_store"] == ["P1"]

@@ -89,6 +89,39 @@ def test_vary_and_set_shape_the_grid(tmp_path):
     assert data["agreeing_everywhere"] == [{"a": 0}]
 
 
+def test_colengths_of_refuted_points_are_the_scans_own(monkeypatch):
+    """The check computes no Gröbner basis for a presentation the Bethe points refute; the
+    scan's --colengths computes its colengths at the check's specialisation, under the
+    scan's limits, and a point whose colengths a limit stopped is computed again under
+    other limits."""
+    import time
+    from ringmatch.compare.sweep import Limits, run_case
+    flag = parse_flag("P1")
+    plan = scan.plan_scan("coulomb-levels", [flag], fixed={"b": 0}, vary=[("a", (-1,))],
+                          colengths=True)
+    point = plan.points[0]
+    result = run_case(plan.task(flag, point, "auto"))
+    name = plan.family_name(point)
+    assert result["verdict"] == "disagree" and result["presentations"][name]["colength"] is None
+    assert scan.refuted_at_points(plan, point, result)
+    full = scan.with_colengths(plan, flag, point, result, Limits())
+    assert full["presentations"][name]["colength"] == 3          # hand count: 2 − (−1)
+    assert full["presentations"][name]["classical_colength"] == 2
+    assert "by the scan" in full["presentations"][name]["colength_method"]
+    assert full["verdict"] == "disagree"
+    original = scan.colengths_at
+    monkeypatch.setattr(scan, "colengths_at",
+                        lambda *a, **k: (time.sleep(30), original(*a, **k))[1])
+    stopped = scan.with_colengths(plan, flag, point, result, Limits(seconds=0.5))
+    assert stopped["presentations"][name]["colength"] is None
+    record = scan.point_record(plan, flag, point, stopped, True, 0.0)
+    assert record["colengths_note"] == ("colengths not computed: limit: took longer than "
+                                        "--case-timeout 0.5 s")
+    row = {"result": stopped}
+    assert not scan.colengths_again(row, Limits(seconds=0.5))
+    assert scan.colengths_again(row, Limits(seconds=60))
+
+
 # ---------------------------------------------------------------------------------------
 # Verdict words and outputs, from hand-made scan objects
 

@@ -182,12 +182,13 @@ def test_wrong_conjecture_is_found_disagree_by_check():
     pytest.importorskip("ringmatch.compare.engine", reason="the comparison engine is not installed")
     result = run_cli("check", "Fl(1,2;3)", "--presentations", "whitney,whitney-sign-error",
                      "--seed", "3", "--json")
-    assert result.returncode == 0, result.stderr
+    assert result.returncode == 1, result.stderr      # exit status 1: disagree
     verdict = json.loads(result.stdout)
     assert verdict["verdict"] == "disagree"
     assert "level 2, y^2" in result.stdout
     result = run_cli("check", "Gr(2;4)", "--presentations", "whitney,whitney-sign-error",
                      "--seed", "3", "--json")
+    assert result.returncode == 0, result.stderr      # exit status 0: agree
     assert json.loads(result.stdout)["verdict"] == "agree"
 
 
