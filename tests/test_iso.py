@@ -23,7 +23,7 @@ import math
 import pytest
 import sympy
 
-from ringmatch.compare import algebra, groebner, iso
+from ringmatch.compare import algebra, groebner, iso, iso_verify
 from ringmatch.compare.engine import own_ideal
 from ringmatch.presentations import toda, vieta, whitney
 from ringmatch.presentations.flagtype import FlagType, parse_flag
@@ -105,7 +105,7 @@ def test_toda_generators_are_ratios_of_determinants(case):
         return ring.gen[f"S{j}_{j}"] if j < flag.n else ring.const(math.prod(spec.T) % spec.prime)
 
     for j in range(1, flag.n + 1):
-        L = iso.formula_polynomial(to_toda[f"L{j}"], ring, whitney_names, spec)
+        L = iso_verify.formula_polynomial(to_toda[f"L{j}"], ring, whitney_names, spec)
         assert groebner.normal_form(L * det_S(j - 1) - det_S(j), ideal.basis).is_zero(), j
     # and the map writes det S_i as the telescoping product L_1⋯L_i
     to_whitney = formulas(result.forward)
@@ -142,7 +142,7 @@ def test_eliminated_vieta_to_whitney_coefficients_in_T():
     for monomial, c in sympy.Poly(reference, S1, S2).terms():
         reference_poly += ring.gen["S1_1"] ** monomial[0] * ring.gen["S1_2"] ** monomial[1] * \
             (int(c) % spec.prime)
-    found = iso.formula_polynomial(forward["Q1_3"], ring, names, spec)
+    found = iso_verify.formula_polynomial(forward["Q1_3"], ring, names, spec)
     assert groebner.normal_form(found - reference_poly, ideal.basis).is_zero()
 
 
