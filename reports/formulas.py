@@ -233,16 +233,12 @@ def presentation_text(presentation: Presentation) -> str:
              "", "generators:"]
     for g in presentation.generators:
         lines.append(f"  {g.name:<8} = {g.meaning.pretty}   (weight {g.weight})")
-    symbol_latex = symbols_latex(presentation.generators)
     lines += ["", f"relations ({len(presentation.relations)}):"]
     for r in presentation.relations:
-        text = relation_latex(r.poly, names, symbol_latex) if latex \
-            else formula(r.poly, names) + " = 0"
-        lines.append(f"  [{r.label}]  {text}")
+        lines.append(f"  [{r.label}]  {formula(r.poly, names)} = 0")
     if presentation.units:
         lines += ["", "units (inverted):"]
-        lines += [f"  {formula(u, names, latex=latex, symbol_latex=symbol_latex)}"
-                  for u in presentation.units]
+        lines += [f"  {formula(u, names)}" for u in presentation.units]
     return "\n".join(lines)
 
 
