@@ -121,3 +121,23 @@ def pytest_sessionfinish(session, exitstatus):
         return
     if exitstatus in (0, 1) and _state.get("count", 0) > 0:   # ran to the end, pass or fail
         cache.set(_CACHE_KEY, time.monotonic() - _state["start"])
+
+
+def sympy_ideals_equal(flag, family_a, family_b, seed, *, prime=32003, equivariant=True):
+    """Independent judge: whether two presentations in the same generators define equal
+    ideals at the engine's specialisation (same seed and prime), decided by SymPy's
+    `groebner` alone (equal reduced bases)."""
+    import sympy
+    from ringmatch.compare import algebra
+    from ringmatch.presentations.interface import build_specialised
+    from ringmatch.reports.formulas import to_sympy
+    spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime,
+                                       equivariant=equivariant)
+    bases = []
+    for family in (family_a, family_b):
+        presentation = build_specialised(family, flag, spec)
+        names = presentation.ring.ctx.names()
+        symbols = [sympy.Symbol(x) for x in names]
+        polys = [to_sympy(r.poly, names) for r in presentation.relations]
+        bases.append(sympy.groebner(polys, *symbols, modulus=prime, order="grevlex"))
+    return bases[0].exprs == bases[1].exprs

@@ -17,6 +17,7 @@ from ringmatch.presentations.interface import build_specialised
 from ringmatch.reports.formulas import to_sympy
 
 from broken_variants import whitney_variant
+from conftest import sympy_ideals_equal
 
 SMALL_PRIME = 32003   # SymPy's modular Gröbner bases are much faster with a small prime
 ALL_UP_TO_5 = [FlagType(tuple(d for d in range(1, n) if mask >> (d - 1) & 1), n)
@@ -106,19 +107,6 @@ MUTANTS = {
 
 def mutant_family(name):
     return replace(whitney.FAMILY, name=f"whitney-{name}", relations=MUTANTS[name])
-
-
-def sympy_ideals_equal(flag, family_a, family_b, seed):
-    """Independent decision: equal ideals at the engine's specialisation, with SymPy."""
-    spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=SMALL_PRIME)
-    bases = []
-    for family in (family_a, family_b):
-        presentation = build_specialised(family, flag, spec)
-        names = presentation.ring.ctx.names()
-        symbols = [sympy.Symbol(x) for x in names]
-        polys = [to_sympy(r.poly, names) for r in presentation.relations]
-        bases.append(sympy.groebner(polys, *symbols, modulus=SMALL_PRIME, order="grevlex"))
-    return bases[0].exprs == bases[1].exprs
 
 
 @pytest.mark.parametrize("case", ["P2", "Gr(2,4)", "Fl(3)"])

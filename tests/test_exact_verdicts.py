@@ -16,14 +16,11 @@ from pathlib import Path
 import pytest
 import sympy
 
-from ringmatch.compare import algebra
 from ringmatch.compare.engine import check_case, trial_prime
 from ringmatch.presentations import get_family, whitney
 from ringmatch.presentations.flagtype import parse_flag
-from ringmatch.presentations.interface import build_specialised
-from ringmatch.reports.formulas import to_sympy
 
-from conftest import run_in_process
+from conftest import run_in_process, sympy_ideals_equal
 
 SMALL_PRIME = 32003   # SymPy's modular Gröbner bases are fast with a small prime
 HERE = Path(__file__).resolve().parent
@@ -33,17 +30,8 @@ SEED = 13
 
 
 def sympy_equal(flag, family_a, family_b, seed, equivariant=True):
-    """Equal ideals at the engine's specialisation, decided by SymPy alone."""
-    spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=SMALL_PRIME,
-                                       equivariant=equivariant)
-    bases = []
-    for family in (family_a, family_b):
-        built = build_specialised(family, flag, spec)
-        names = built.ring.ctx.names()
-        symbols = [sympy.Symbol(x) for x in names]
-        polys = [to_sympy(r.poly, names) for r in built.relations]
-        bases.append(sympy.groebner(polys, *symbols, modulus=SMALL_PRIME, order="grevlex"))
-    return bases[0].exprs == bases[1].exprs
+    return sympy_ideals_equal(flag, family_a, family_b, seed, prime=SMALL_PRIME,
+                              equivariant=equivariant)
 
 
 @pytest.mark.parametrize("case", CASES)
