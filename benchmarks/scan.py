@@ -35,12 +35,13 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from ringmatch.compare import scan, sweep  # noqa: E402
+from ringmatch.compare.cases import KINDS, enumerate_cases, parse_case_list  # noqa: E402
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--max-n", type=int, default=6)
-    parser.add_argument("--kind", default="grassmannian", choices=sweep.KINDS)
+    parser.add_argument("--kind", default="grassmannian", choices=KINDS)
     parser.add_argument("--cases", help="explicit cases instead of --kind/--max-n")
     parser.add_argument("--workers", type=int, default=2)
     parser.add_argument("--colengths", action="store_true",
@@ -48,8 +49,8 @@ def main() -> None:
     parser.add_argument("--presentation", default="coulomb-levels")
     parser.add_argument("--slowest", type=int, default=8)
     args = parser.parse_args()
-    flags = sweep.parse_case_list(args.cases) if args.cases else \
-        sweep.enumerate_cases(args.kind, args.max_n)
+    flags = parse_case_list(args.cases) if args.cases else \
+        enumerate_cases(args.kind, args.max_n)
     plan = scan.plan_scan(args.presentation, flags, colengths=args.colengths, max_grid=10**6)
     with tempfile.TemporaryDirectory() as folder:
         started = time.perf_counter()

@@ -29,6 +29,7 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from ringmatch.compare import algebra, sweep  # noqa: E402
+from ringmatch.compare.cases import enumerate_cases  # noqa: E402
 
 
 def timed_sweep(flags, names, workers, folder: Path, label: str):
@@ -77,7 +78,7 @@ def main(argv=None) -> int:
     parser.add_argument("--slowest", type=int, default=10)
     args = parser.parse_args(argv)
     names = args.presentations.split(",")
-    flags = sweep.enumerate_cases("partial", args.max_n)
+    flags = enumerate_cases("partial", args.max_n)
     print(f"sweep benchmark: {len(flags)} flag types with n ≤ {args.max_n}, "
           f"presentations {', '.join(names)}", flush=True)
     with tempfile.TemporaryDirectory(prefix="ringmatch-bench-") as folder:

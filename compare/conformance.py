@@ -86,7 +86,7 @@ def check_family(family: Family, cases: Sequence[str] = CASES, *, seed: int = SE
         checked.append(flag.name)
     if not checked and cases == CASES:
         # A case file, or a family for other shapes: check it on its smallest case instead.
-        from .sweep import enumerate_cases
+        from .cases import enumerate_cases
         own = next((f.name for f in enumerate_cases("partial", FALLBACK_MAX_N)
                     if _supports(family, f)), None)
         if own is not None:

@@ -19,9 +19,12 @@ import json
 import os
 from pathlib import Path
 
+from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.reports import sweeps as sweep_text
 
 from . import sweep
+from .cases import enumerate_cases
+from .workers import available_cores
 
 ESTABLISHED = ["whitney", "vieta", "bethe"]
 CONJECTURE = "kestrel-conjecture"
@@ -75,7 +78,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
     say(f"The Kestrel Lake working group (an invented scenario) conjectures a presentation of "
         f"QK_T(Fl) for every flag variety:\n  {CONJECTURE} "
         f"(presentations/files/demo/{CONJECTURE}.toml).\n")
-    cases = sweep.enumerate_cases("partial", confirm_max_n)
+    cases = enumerate_cases("partial", confirm_max_n)
     kept = [f for f in cases if f.rank <= confirm_max_rank]
     scope = f"n ≤ {confirm_max_n}" + ("" if len(kept) == len(cases) else
                                       f" and rank ≤ {confirm_max_rank} ({len(kept)} of "
@@ -105,7 +108,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
     say(f"\nStep 2: where does {CONJECTURE} first differ from whitney (n ≤ {search_max_n}, "
         "smallest case first)?")
     search_store = _fresh_store(folder / "conjecture.db")
-    plan = sweep.plan_sweep(sweep.enumerate_cases("partial", search_max_n),
+    plan = sweep.plan_sweep(enumerate_cases("partial", search_max_n),
                             ["whitney", CONJECTURE], seed=0, prime=_prime(), equivariant=True,
                             order=6, trials=1, method="auto")
     searched = sweep.run_sweep(plan, search_store, workers=workers, stop_at_first=True,
@@ -119,7 +122,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
         say(f"  no counterexample with n ≤ {search_max_n} "
             f"({len(searched.results)} cases in {searched.wall:.1f} s)")
     else:
-        agreed = [f.name for f in plan.flags[:plan.flags.index(sweep.parse_flag(first))]
+        agreed = [f.name for f in plan.flags[:plan.flags.index(parse_flag(first))]
                   if searched.results[f.name]["verdict"] == "agree"]
         say(f"  it agrees with whitney on the {len(agreed)} cases before it in sweep order "
             f"({agreed[0]} … {agreed[-1]}) and first fails at {first} "
@@ -145,7 +148,7 @@ def add_arguments(parser, *, positive_int) -> None:
     parser.add_argument("--out", default=DEFAULT_FOLDER, metavar="FOLDER",
                         help=f"folder for the report, tables and stores; default "
                              f"./{DEFAULT_FOLDER}/")
-    parser.add_argument("--workers", type=positive_int, default=sweep.available_cores(),
+    parser.add_argument("--workers", type=positive_int, default=available_cores(),
                         help="cases computed at once; default the number of cores")
     parser.add_argument("--confirm-max-n", type=positive_int, default=CONFIRM_MAX_N,
                         metavar="N", help=f"step 1 up to this n; default {CONFIRM_MAX_N}")

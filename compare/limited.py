@@ -2,7 +2,7 @@
 `--case-memory`), and progress lines for the stages of a check.
 
 The computation runs in a forked child: past the time limit it is killed, and the memory
-allowance is an address-space limit set inside the child only (compare/sweep.py sets it the
+allowance is an address-space limit set inside the child only (compare/workers.py sets it the
 same way), so that neither a hang nor an allocation FLINT cannot satisfy (it aborts the
 process) takes this process down.  What ran out is returned as a `Stopped`, for the caller
 to report like any undecided case.
@@ -57,8 +57,8 @@ def run_limited(work: Callable[[], dict], *, seconds: Optional[float] = None,
             child.join()
         reader.close()
     if message is None:
-        from .sweep import _exit_text
-        ended = _exit_text(child.exitcode)
+        from .workers import exit_text
+        ended = exit_text(child.exitcode)
         if memory_mib and child.exitcode == -signal.SIGABRT:
             return Stopped(f"limit: out of memory under --case-memory {memory_mib} MiB "
                            f"(FLINT could not allocate; the computation ended with {ended})")
@@ -76,15 +76,15 @@ def run_limited(work: Callable[[], dict], *, seconds: Optional[float] = None,
 
 def _child(writer, work, memory_mib) -> None:
     from ringmatch.errors import RingmatchError
-    from .sweep import _die_with_parent, _set_memory_limit
+    from .workers import die_with_parent, set_memory_limit
     signal.signal(signal.SIGINT, signal.SIG_IGN)     # the parent handles Ctrl-C
-    _die_with_parent()
+    die_with_parent()
     # stdout carries the parent's report (--json); FLINT prints why it aborts to stdout
     import os
     sys.stdout.flush()
     os.dup2(2, 1)
     if memory_mib:
-        _set_memory_limit(memory_mib)
+        set_memory_limit(memory_mib)
     try:
         message = ("ok", work())
     except MemoryError:

@@ -39,8 +39,9 @@ from ringmatch.errors import UsageError
 from ringmatch.presentations.flagtype import FlagType
 
 from . import limited, store
-from .sweep import (CaseTask, Limits, Source, case_order, family_of, load_sources,
-                    needs_computing, run_local, unsupported_reasons)
+from .cases import CaseTask, Source, case_order, family_of, load_sources, unsupported_reasons
+from .sweep import needs_computing
+from .workers import Limits, run_local
 
 DEFAULT_MAX_GRID = 5000        # grid points × cases a scan takes without --max-grid
 VERDICTS = ("agree", "consistent", "inconclusive", "disagree")

@@ -13,7 +13,9 @@ import sys
 from ringmatch.errors import UsageError
 
 from . import parameters, store
-from .sweep import KINDS, Limits, available_cores, terminal_progress
+from .cases import KINDS
+from .sweep import terminal_progress
+from .workers import Limits, available_cores
 
 DEFAULT_STORE = "ringmatch-scans.db"
 

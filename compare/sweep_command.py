@@ -14,8 +14,9 @@ from ringmatch.presentations.flagtype import FlagType
 from ringmatch.reports.sweeps import summary_text
 
 from . import store
-from .sweep import (DEFAULT_STORE, KINDS, MAX_SWEEP_N, Limits, available_cores, enumerate_cases,
-                    outcome_json, parse_case_list, plan_sweep, run_sweep, sweep_progress)
+from .cases import KINDS, MAX_SWEEP_N, enumerate_cases, parse_case_list
+from .sweep import DEFAULT_STORE, outcome_json, plan_sweep, run_sweep, sweep_progress
+from .workers import Limits, available_cores
 
 
 def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:

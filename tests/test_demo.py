@@ -4,6 +4,7 @@ finds and reports that."""
 import sympy
 
 from ringmatch.compare import store, sweep
+from ringmatch.compare.cases import enumerate_cases
 from ringmatch.compare.engine import check_case
 from ringmatch.presentations import FAMILIES, get_family
 from ringmatch.presentations.flagtype import parse_flag
@@ -24,8 +25,8 @@ def test_conjecture_is_the_whitney_presentation_whenever_every_k_i_is_at_most_3(
     (arXiv:2310.03826) for every flag type with n ≤ 4, and for those with n = 5, 6 and
     all k_i ≤ 3."""
     conjecture, whitney = get_family(CONJECTURE), FAMILIES["whitney"]
-    flags = [f for f in sweep.enumerate_cases("partial", 6) if max(f.dims) <= 3]
-    assert all(f.n > 4 or max(f.dims) <= 3 for f in sweep.enumerate_cases("partial", 4))
+    flags = [f for f in enumerate_cases("partial", 6) if max(f.dims) <= 3]
+    assert all(f.n > 4 or max(f.dims) <= 3 for f in enumerate_cases("partial", 4))
     for flag in flags:
         assert relation_polys(conjecture, flag) == relation_polys(whitney, flag), flag.name
 
@@ -46,7 +47,7 @@ def test_conjectured_top_relation_of_gr45_misses_the_factor_1_minus_q():
 
 
 def test_the_first_counterexample_in_sweep_order_is_gr45(tmp_path):
-    flags = sweep.enumerate_cases("partial", 5)
+    flags = enumerate_cases("partial", 5)
     plan = sweep.plan_sweep(flags, ["whitney", CONJECTURE], seed=0,
                             prime=store.sweep_settings([])["prime"], equivariant=True, order=6,
                             trials=1, method="auto")

@@ -95,7 +95,7 @@ def test_colengths_of_refuted_points_are_the_scans_own(monkeypatch):
     scan's limits, and a point whose colengths a limit stopped is computed again under
     other limits."""
     import time
-    from ringmatch.compare.sweep import Limits, run_case
+    from ringmatch.compare.workers import Limits, run_case
     flag = parse_flag("P1")
     plan = scan.plan_scan("coulomb-levels", [flag], fixed={"b": 0}, vary=[("a", (-1,))],
                           colengths=True)
@@ -209,8 +209,9 @@ def test_files_without_parameters_and_huge_grids_are_refused(tmp_path):
 
 def test_the_demo_scene_finds_the_one_exponent(tmp_path):
     """Demo step 3: the exponent of det Q_i in kestrel-exponent; only 1 (q-Whitney) survives."""
-    from ringmatch.compare import demo_scan, sweep
-    flags = [f for f in sweep.enumerate_cases("partial", 4)]
+    from ringmatch.compare import demo_scan
+    from ringmatch.compare.cases import enumerate_cases
+    flags = [f for f in enumerate_cases("partial", 4)]
     lines = []
     scene = demo_scan.run_scene(tmp_path, flags, workers=2, say=lines.append)
     assert scene["scan"]["agreeing_everywhere"] == [{"exponent": 1}]

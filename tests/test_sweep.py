@@ -12,7 +12,9 @@ from pathlib import Path
 
 import pytest
 
-from ringmatch.compare import store, sweep
+from ringmatch.compare import store, sweep, workers
+from ringmatch.compare.cases import case_seed, enumerate_cases, parse_case_list
+from ringmatch.compare.workers import Limits
 from ringmatch.reports import sweeps as sweep_text
 from ringmatch.presentations.flagtype import parse_flag
 
@@ -27,7 +29,7 @@ def comparable(result: dict) -> dict:
 
 
 def plan(cases: str, names=("whitney", "vieta"), seed=0):
-    return sweep.plan_sweep(sweep.parse_case_list(cases), list(names), seed=seed,
+    return sweep.plan_sweep(parse_case_list(cases), list(names), seed=seed,
                             prime=store.sweep_settings([])["prime"], equivariant=True,
                             order=6, trials=1, method="auto")
 
@@ -38,27 +40,27 @@ def plan(cases: str, names=("whitney", "vieta"), seed=0):
 def test_all_partial_flags_up_to_6_are_57():
     """Flag types in C^n are the nonempty subsets {k_1 < … < k_m} of {1…n−1}: 2^(n−1) − 1
     of them (standard count); summed over n = 2…6 that is 1 + 3 + 7 + 15 + 31 = 57."""
-    flags = sweep.enumerate_cases("partial", 6)
+    flags = enumerate_cases("partial", 6)
     assert len(flags) == 57 == sum(2 ** (n - 1) - 1 for n in range(2, 7))
     assert len(set(flags)) == 57
     for n in range(2, 7):
         assert sum(f.n == n for f in flags) == 2 ** (n - 1) - 1
-    assert len(sweep.enumerate_cases("partial", 7)) == 120
+    assert len(enumerate_cases("partial", 7)) == 120
 
 
 def test_kinds_and_bounds():
-    grassmannians = sweep.enumerate_cases("grassmannian", 6)
+    grassmannians = enumerate_cases("grassmannian", 6)
     assert len(grassmannians) == sum(n - 1 for n in range(2, 7))     # Gr(k;n), 0 < k < n
     assert all(f.m == 1 for f in grassmannians)
-    complete = sweep.enumerate_cases("complete", 6)
+    complete = enumerate_cases("complete", 6)
     assert [f.name for f in complete] == ["P1", "Fl(3)", "Fl(4)", "Fl(5)", "Fl(6)"]
-    assert [f.n for f in sweep.enumerate_cases("partial", 5, min_n=5)] == [5] * 15
-    small = sweep.enumerate_cases("partial", 5, max_rank=30)
+    assert [f.n for f in enumerate_cases("partial", 5, min_n=5)] == [5] * 15
+    small = enumerate_cases("partial", 5, max_rank=30)
     assert small and all(f.rank <= 30 for f in small)
 
 
 def test_order_is_n_then_rank_then_dims():
-    flags = sweep.enumerate_cases("partial", 6)
+    flags = enumerate_cases("partial", 6)
     keys = [(f.n, f.rank, f.dims) for f in flags]
     assert keys == sorted(keys)
     # ranks are the multinomial coefficients n!/(k_1! d_1! ⋯ d_m!) (Euler characteristic)
@@ -69,15 +71,15 @@ def test_order_is_n_then_rank_then_dims():
 
 
 def test_case_list_is_put_in_sweep_order_once():
-    flags = sweep.parse_case_list("Fl(3); Gr(2,4);P1;Gr(2;4);")
+    flags = parse_case_list("Fl(3); Gr(2,4);P1;Gr(2;4);")
     assert [f.name for f in flags] == ["P1", "Fl(3)", "Gr(2;4)"]
 
 
 def test_case_seeds_are_reproducible_and_differ_between_cases():
-    a = [sweep.case_seed(7, f) for f in sweep.enumerate_cases("partial", 6)]
-    assert a == [sweep.case_seed(7, f) for f in sweep.enumerate_cases("partial", 6)]
+    a = [case_seed(7, f) for f in enumerate_cases("partial", 6)]
+    assert a == [case_seed(7, f) for f in enumerate_cases("partial", 6)]
     assert len(set(a)) == len(a)
-    assert a != [sweep.case_seed(8, f) for f in sweep.enumerate_cases("partial", 6)]
+    assert a != [case_seed(8, f) for f in enumerate_cases("partial", 6)]
 
 
 # ---------------------------------------------------------------------------------------
@@ -91,7 +93,7 @@ def test_sweep_stores_each_case_and_a_second_run_computes_nothing(tmp_path):
     for result in first.ordered_results():
         certificate = result["certificate"]
         assert certificate["sweep_seed"] == 0
-        assert certificate["seed"] == sweep.case_seed(0, parse_flag(result["case"]))
+        assert certificate["seed"] == case_seed(0, parse_flag(result["case"]))
     again = sweep.run_sweep(p, tmp_path / "s.db", workers=2)
     assert again.computed == [] and len(again.from_store) == 4
     assert [comparable(r) for r in again.ordered_results()] == \
@@ -104,7 +106,7 @@ def test_sweep_stores_each_case_and_a_second_run_computes_nothing(tmp_path):
 def test_stop_at_first_counterexample_is_the_smallest_one(tmp_path):
     """whitney-sign-error slips a sign in a term that vanishes for Grassmannians; the first
     case with two steps is Fl(1,2;3) (see the file's header)."""
-    p = sweep.plan_sweep(sweep.enumerate_cases("partial", 4), ["whitney", "whitney-sign-error"],
+    p = sweep.plan_sweep(enumerate_cases("partial", 4), ["whitney", "whitney-sign-error"],
                          seed=0, prime=store.sweep_settings([])["prime"], equivariant=True,
                          order=6, trials=1, method="auto")
     outcome = sweep.run_sweep(p, tmp_path / "s.db", workers=2, stop_at_first=True)
@@ -117,7 +119,7 @@ def test_stop_at_first_counterexample_is_the_smallest_one(tmp_path):
 
 
 def test_unsupported_cases_are_skipped_with_the_reason(tmp_path):
-    p = sweep.plan_sweep(sweep.enumerate_cases("partial", 3), ["whitney", "toda"], seed=0,
+    p = sweep.plan_sweep(enumerate_cases("partial", 3), ["whitney", "toda"], seed=0,
                          prime=store.sweep_settings([])["prime"], equivariant=True, order=6,
                          trials=1, method="auto")
     assert [f.name for f in p.flags] == ["P1", "Fl(3)"]
@@ -129,7 +131,7 @@ def test_unsupported_cases_are_skipped_with_the_reason(tmp_path):
 
 def test_a_case_over_the_time_limit_is_inconclusive_and_the_sweep_goes_on(tmp_path):
     p = plan("P1;Fl(4)", names=("whitney", "vieta", "bethe"))
-    limits = sweep.Limits(seconds=0.02)
+    limits = Limits(seconds=0.02)
     outcome = sweep.run_sweep(p, tmp_path / "s.db", workers=1, limits=limits)
     fl4 = outcome.results["Fl(4)"]   # about a second of Gröbner bases
     assert fl4["verdict"] == "inconclusive"
@@ -139,7 +141,7 @@ def test_a_case_over_the_time_limit_is_inconclusive_and_the_sweep_goes_on(tmp_pa
     assert [r["reason"].startswith("limit:") for r in rows if r["case"] == "Fl(4)"] == [True]
     # same limits: not computed again; other limits: computed again
     assert sweep.run_sweep(p, tmp_path / "s.db", limits=limits).computed == []
-    relaxed = sweep.run_sweep(p, tmp_path / "s.db", limits=sweep.Limits(seconds=600))
+    relaxed = sweep.run_sweep(p, tmp_path / "s.db", limits=Limits(seconds=600))
     assert "Fl(4)" in relaxed.computed and relaxed.results["Fl(4)"]["verdict"] == "agree"
 
 
@@ -294,9 +296,9 @@ def test_a_crashed_worker_is_recorded_as_such_and_retried_a_bounded_number_of_ti
         tmp_path, monkeypatch):
     """A worker dying without a message is a crash (with its signal), not "out of memory",
     even under --case-memory; it is computed again on resume, up to a bound."""
-    monkeypatch.setattr(sweep, "run_case", _segfault)     # forked workers inherit it
+    monkeypatch.setattr(workers, "run_case", _segfault)     # forked workers inherit it
     p, path = plan("P1"), tmp_path / "s.db"
-    limits = sweep.Limits(memory_mib=2000)
+    limits = Limits(memory_mib=2000)
     reasons = []
     for _ in range(sweep.FAILED_ATTEMPTS + 1):
         outcome = sweep.run_sweep(p, path, limits=limits)
