@@ -28,7 +28,7 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from ringmatch.compare import algebra, iso, points  # noqa: E402
+from ringmatch.compare import algebra, iso, lifting  # noqa: E402
 from ringmatch.compare.engine import own_ideal  # noqa: E402
 from ringmatch.presentations import FAMILIES  # noqa: E402
 from ringmatch.presentations.flagtype import FlagType, parse_flag  # noqa: E402
@@ -49,7 +49,7 @@ def measure(case, source, target, seed):
     flag = parse_flag(case)
     result, total = cpu(iso.find_isomorphism, flag, FAMILIES[source], FAMILIES[target], seed=seed)
     line = algebra.draw_specialisation(flag.n, flag.m, seed=seed, q_on_line=True)
-    _, lift = cpu(points.lift_points, flag, line, iso.Bounds().order)
+    _, lift = cpu(lifting.lift_points, flag, line, iso.Bounds().order)
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed)
     _, basis = cpu(own_ideal, FAMILIES[source], flag, spec)
     t = result.timings

@@ -1,4 +1,5 @@
-"""Speed of the Bethe-point engine (compare/points.py): lifting and the Whitney "holds" test.
+"""Speed of the Bethe-point engine (compare/lifting.py, compare/points.py): lifting and the
+Whitney "holds" test.
 
     python benchmarks/points.py [--quick] [--order N] [--seed S] [--sample K]
 
@@ -30,7 +31,7 @@ from tabulate import tabulate
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from ringmatch.compare import algebra, points  # noqa: E402
+from ringmatch.compare import algebra, lifting, points  # noqa: E402
 from ringmatch.compare import series as ps  # noqa: E402
 from ringmatch.presentations import whitney  # noqa: E402
 from ringmatch.presentations.flagtype import parse_flag  # noqa: E402
@@ -43,13 +44,13 @@ QUICK_CASES = ["Gr(2;4)", "Gr(3;6)", "Gr(4;8)", "Fl(4)", "Fl(5)", "Fl(6)"]
 
 def linear_lift(setup, fixed_point, order):
     """Reference: one order of s per step, with the inverse Jacobian at s = 0 only."""
-    inverse = [points._initial_inverse(setup, fixed_point)]
+    inverse = [lifting._initial_inverse(setup, fixed_point)]
     roots = [[setup.top[j - 1] for j in I] for I in fixed_point]
     for precision in range(1, order):
-        values, _ = points._sweep(setup, roots, precision + 1, 0, [])
-        correction = points._newton_correction(setup, inverse, values, precision, 1)
+        values, _ = lifting._sweep(setup, roots, precision + 1, 0, [])
+        correction = lifting._newton_correction(setup, inverse, values, precision, 1)
         flat = [x for level in roots for x in level]
-        roots = points._split_levels(setup, [x - c.left_shift(precision)
+        roots = lifting._split_levels(setup, [x - c.left_shift(precision)
                                              for x, c in zip(flat, correction)])
     return roots
 
@@ -76,7 +77,7 @@ def run_case(case, order, seed, sample):
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, q_on_line=True)
     wall = time.perf_counter()
     started = time.process_time()
-    lifted = points.lift_points(flag, spec, order)
+    lifted = lifting.lift_points(flag, spec, order)
     lift_time = time.process_time() - started
     started = time.process_time()
     result = points.check_holds_family(whitney.FAMILY, flag, lifted)
@@ -86,7 +87,7 @@ def run_case(case, order, seed, sample):
         raise SystemExit(f"{case}: the Whitney relations do not hold: {result.failures[:1]}")
 
     few = lifted.points[:sample]
-    setup = points._setup(flag, spec)
+    setup = lifting.make_setup(flag, spec)
     started = time.process_time()
     for point in few:
         reference = linear_lift(setup, point.fixed_point, order)
@@ -96,7 +97,7 @@ def run_case(case, order, seed, sample):
     linear_time = (time.process_time() - started) / len(few)
 
     presentation = build_series(whitney.FAMILY, flag, spec)
-    subset = points.BethePoints(flag, spec, order, few)
+    subset = lifting.BethePoints(flag, spec, order, few)
     started = time.process_time()
     points.check_holds(presentation, subset)
     our_holds_sample = (time.process_time() - started) / len(few)

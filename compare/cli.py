@@ -301,7 +301,7 @@ def cmd_presentations(args) -> int:
 
 
 def cmd_points(args) -> int:
-    from .points import SingularJacobian, random_line_points, summary_text
+    from .lifting import SingularJacobian, random_line_points, summary_text
     flag, prime = args.case, args.prime
     weights = line = None
     if args.weights is not None:

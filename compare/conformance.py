@@ -25,7 +25,7 @@ from ringmatch.presentations.interface import (Family, build_series, build_speci
                                                build_symbolic)
 from ringmatch.presentations.meanings import meaning_problem
 
-from . import algebra, groebner, points
+from . import algebra, groebner, lifting, points
 
 CASES = ("P1", "Gr(2;4)", "Fl(3)")
 FALLBACK_MAX_N = 5          # a family supporting none of CASES is checked on its smallest case
@@ -141,7 +141,7 @@ def _problems(family: Family, flag: FlagType, seed: int, prime: int) -> Iterator
     if isinstance(expected, bool) or not isinstance(expected, int) or expected < 1:
         yield f"expected colength {expected!r} is not a positive integer"
 
-    lifted = points.lift_points(flag, line, ORDER)
+    lifted = lifting.lift_points(flag, line, ORDER)
     holds = points.check_holds(series, lifted)
     for failure in holds.unit_failures:
         yield (f"unit {failure.unit + 1} vanishes at the fixed point "

@@ -80,8 +80,9 @@ from typing import List, Optional, Sequence
 from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType
 from ringmatch.presentations.interface import Family, Generator, PresentationError
+from ringmatch.presentations.meanings import meaning_problem
 
-from . import algebra, points
+from . import algebra, lifting
 from .iso_interpolate import reconstruct_directions
 # ExactCoefficient and GeneratorFormula are imported from here by reports/isomorphism.py
 from .iso_records import (Bounds, Direction, ExactCoefficient, GeneratorFormula,  # noqa: F401
@@ -130,7 +131,7 @@ def find_isomorphism(flag: FlagType, source: Family, target: Family, *,
     try:
         _search_reconstruct_verify(result, flag, (source, target), generators, bounds, seed,
                                    primes)
-    except points.LiftError as error:
+    except lifting.LiftError as error:
         result.found = result.verified = False
         result.status = "inconclusive"
         result.reason = f"inconclusive: the Bethe points could not be lifted: {error}"
@@ -219,7 +220,7 @@ def _generators(family: Family, flag: FlagType) -> List[Generator]:
         raise PresentationError(f"{family.name} has no presentation for {flag.name}: {reason}")
     gens = family.generators(flag)
     for g in gens:
-        problem = points.meaning_problem(g.meaning, flag)
+        problem = meaning_problem(g.meaning, flag)
         if problem:
             raise IsoInputError(f"{family.name}: generator {g.name}: {problem}")
     return gens

@@ -11,7 +11,7 @@ from typing import Dict, List, Optional, Sequence, Tuple
 from ringmatch.presentations.flagtype import FlagType
 from ringmatch.presentations.interface import Generator
 
-from . import points, reconstruct
+from . import lifting, reconstruct
 from . import series as ps
 from .iso_records import Bounds, Direction, ExactCoefficient, Form, GeneratorFormula, Term
 from .iso_search import PADE_SLACK, lift_line, monomial_columns, point_values, solve_on_support
@@ -135,14 +135,14 @@ class _SamplePool:
 def _ensure_samples(pool: _SamplePool, count: int) -> None:
     while len(pool.samples) < count:
         if pool.attempts >= count + 20:
-            raise points.LiftError(f"only {len(pool.samples)} usable samples in "
+            raise lifting.LiftError(f"only {len(pool.samples)} usable samples in "
                                    f"{pool.attempts} draws mod {pool.prime}")
         sample_seed = (pool.seed * 1_000_003 + pool.attempts) % 2**63
         pool.attempts += 1
         try:
             sample = _take_sample(pool.flag, pool.generators, pool.directions, pool.order,
                                   sample_seed, pool.prime)
-        except points.LiftError as error:
+        except lifting.LiftError as error:
             pool.notes.append(f"sample seed {sample_seed} skipped: {error}")
             continue
         if sample is None:

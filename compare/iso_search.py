@@ -12,7 +12,7 @@ from ringmatch.presentations.flagtype import FlagType
 from ringmatch.presentations.interface import Generator
 from ringmatch.presentations.meanings import Meaning
 
-from . import points, reconstruct
+from . import lifting, points, reconstruct
 from . import series as ps
 from .iso_records import Bounds, Direction, Form, Support
 from .series import Series
@@ -264,13 +264,13 @@ def search_direction(direction: Direction, data: SearchData, bounds: Bounds) -> 
 # ---------------------------------------------------------------------------------------
 # Values at lifted Bethe points
 
-def point_values(lifted: points.BethePoints, generators: Sequence[Generator]) -> List[List[Series]]:
+def point_values(lifted: lifting.BethePoints, generators: Sequence[Generator]) -> List[List[Series]]:
     by_point = points.generator_values(lifted, generators)
     return [[v[g.name] for g in generators] for v in by_point]
 
 
-def lift_line(flag: FlagType, order: int, seed: int, prime: int) -> points.BethePoints:
-    lifted = points.random_line_points(flag, order, seed=seed, prime=prime)
+def lift_line(flag: FlagType, order: int, seed: int, prime: int) -> lifting.BethePoints:
+    lifted = lifting.random_line_points(flag, order, seed=seed, prime=prime)
     if len(set(lifted.spec.q_line)) < len(lifted.spec.q_line):
-        raise points.LiftError("q-line slopes coincide")
+        raise lifting.LiftError("q-line slopes coincide")
     return lifted

@@ -18,7 +18,7 @@ import flint
 import pytest
 import sympy
 
-from ringmatch.compare import algebra, groebner, points
+from ringmatch.compare import algebra, groebner, lifting, points
 from ringmatch.presentations import bethe, whitney
 from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.presentations.interface import build_series, build_specialised
@@ -49,7 +49,7 @@ def test_generators_are_the_chern_roots():
 def test_bethe_relations_hold_and_units_are_units_at_the_points(case):
     flag = parse_flag(case)
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=3, q_on_line=True)
-    lifted = points.lift_points(flag, spec, 6)
+    lifted = lifting.lift_points(flag, spec, 6)
     result = points.check_holds(build_series(bethe.FAMILY, flag, spec), lifted)
     assert result.holds and result.separates, result.as_dict()
 
@@ -57,10 +57,10 @@ def test_bethe_relations_hold_and_units_are_units_at_the_points(case):
 def test_bethe_relations_with_another_q_do_not_hold():
     flag = parse_flag("Gr(2;4)")
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=3, q_on_line=True)
-    lifted = points.lift_points(flag, spec, 4)
+    lifted = lifting.lift_points(flag, spec, 4)
     other_line = algebra.Specialisation(spec.prime, spec.T, None, (spec.q_line[0] + 1,), spec.seed)
-    moved = points.lift_points(flag, other_line, 4)
-    wrong = points.BethePoints(flag, spec, 4, moved.points)   # points of another q line
+    moved = lifting.lift_points(flag, other_line, 4)
+    wrong = lifting.BethePoints(flag, spec, 4, moved.points)   # points of another q line
     result = points.check_holds(build_series(bethe.FAMILY, flag, spec), wrong)
     assert not result.holds and {f.lowest_power for f in result.failures} == {1}
     assert points.check_holds(build_series(bethe.FAMILY, flag, spec), lifted).holds

@@ -1,4 +1,5 @@
-"""The Bethe-point engine (compare/points.py, compare/series.py): lifting, values, "holds".
+"""The Bethe-point engine (compare/lifting.py, compare/points.py, compare/series.py): lifting,
+values, "holds".
 
 External references, named beside each check:
   * rank = multinomial number of torus-fixed points (standard: Euler characteristic);
@@ -19,7 +20,7 @@ import math
 import pytest
 import sympy
 
-from ringmatch.compare import algebra, points
+from ringmatch.compare import algebra, lifting, points
 from ringmatch.compare import series as ps
 from ringmatch.presentations import toda, whitney
 from ringmatch.presentations.flagtype import FlagType, parse_flag
@@ -45,7 +46,7 @@ def line_spec(flag, seed=11, prime=algebra.DEFAULT_PRIME):
 
 def lifted(case, order=6, seed=11, prime=algebra.DEFAULT_PRIME):
     flag = parse_flag(case) if isinstance(case, str) else case
-    return points.lift_points(flag, line_spec(flag, seed, prime), order)
+    return lifting.lift_points(flag, line_spec(flag, seed, prime), order)
 
 
 # ---------------------------------------------------------------------------------------
@@ -64,9 +65,9 @@ def test_number_of_points_is_the_rank(flag):
 @pytest.mark.parametrize("case", ["P1", "Gr(2;4)", "Fl(1,3;5)", "Fl(4)"])
 def test_lifted_points_satisfy_the_equations(case):
     bethe = lifted(case, order=8)
-    setup = points._setup(bethe.flag, bethe.spec)
+    setup = lifting.make_setup(bethe.flag, bethe.spec)
     for point in bethe.points:
-        assert all(ps.valuation(v, 8) is None for v in points.residuals(setup, point.roots, 8))
+        assert all(ps.valuation(v, 8) is None for v in lifting.residuals(setup, point.roots, 8))
         # and they are genuinely quantum: the roots move with s
         assert any(ps.valuation(x - ps.constant(ps.constant_term(x), bethe.spec.prime), 8)
                    for level in point.roots for x in level)
@@ -96,19 +97,19 @@ def test_roots_start_at_the_weights_of_the_fixed_point():
 def test_equal_weights_are_reported_not_accepted():
     flag = parse_flag("Gr(2;4)")
     spec = algebra.Specialisation(SMALL_PRIME, (3, 5, 3, 7), None, (2,), None)
-    with pytest.raises(points.SingularJacobian, match=r"T_1 and T_3 are equal"):
-        points.lift_points(flag, spec, 4)
+    with pytest.raises(lifting.SingularJacobian, match=r"T_1 and T_3 are equal"):
+        lifting.lift_points(flag, spec, 4)
     spec = algebra.Specialisation(SMALL_PRIME, (3, 5, SMALL_PRIME + 5, 7), None, (2,), None)
-    with pytest.raises(points.SingularJacobian, match=r"T_2 and T_3"):
-        points.lift_points(flag, spec, 4)
+    with pytest.raises(lifting.SingularJacobian, match=r"T_2 and T_3"):
+        lifting.lift_points(flag, spec, 4)
     spec = algebra.Specialisation(SMALL_PRIME, (3, 5, 0, 7), None, (2,), None)
-    with pytest.raises(points.SingularJacobian, match=r"T_3 .* is 0"):
-        points.lift_points(flag, spec, 4)
+    with pytest.raises(lifting.SingularJacobian, match=r"T_3 .* is 0"):
+        lifting.lift_points(flag, spec, 4)
 
 
 def test_given_weights_are_never_replaced():
-    with pytest.raises(points.SingularJacobian):
-        points.random_line_points(parse_flag("P2"), 3, prime=SMALL_PRIME, weights=(4, 4, 9))
+    with pytest.raises(lifting.SingularJacobian):
+        lifting.random_line_points(parse_flag("P2"), 3, prime=SMALL_PRIME, weights=(4, 4, 9))
 
 
 def test_random_weights_that_collide_are_redrawn_and_noted(monkeypatch):
@@ -123,7 +124,7 @@ def test_random_weights_that_collide_are_redrawn_and_noted(monkeypatch):
         return spec
 
     monkeypatch.setattr(algebra, "draw_specialisation", colliding_first)
-    bethe = points.random_line_points(parse_flag("P2"), 3, seed=40, prime=SMALL_PRIME)
+    bethe = lifting.random_line_points(parse_flag("P2"), 3, seed=40, prime=SMALL_PRIME)
     assert calls == [40, 41]
     assert bethe.spec.seed == 41 and len(bethe.points) == 3
     assert len(bethe.notes) == 1 and "seed 40" in bethe.notes[0] and "equal" in bethe.notes[0]
@@ -384,8 +385,8 @@ def test_points_bad_input_is_one_line_exit_2(args, fragment):
 def test_scalar_first_jacobian_coefficient_matches_the_series_sweep(case):
     # the first Newton step builds J_1 from scalars; the general sweep must give the same
     flag = parse_flag(case)
-    setup = points._setup(flag, line_spec(flag))
+    setup = lifting.make_setup(flag, line_spec(flag))
     for fixed_point in flag.fixed_points():
-        roots, J1 = points._first_step(setup, fixed_point, points._initial_inverse(setup, fixed_point))
-        _, from_series = points._sweep(setup, roots, 2, 2, [])
+        roots, J1 = lifting._first_step(setup, fixed_point, lifting._initial_inverse(setup, fixed_point))
+        _, from_series = lifting._sweep(setup, roots, 2, 2, [])
         assert from_series == [J1]
