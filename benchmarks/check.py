@@ -10,7 +10,7 @@ must come without any Gröbner basis.
 Targets (CPU s on the two-core development machine): Fl(6) ≤ 10, Fl(1,3,5;7) ≤ 15,
 Fl(7) ≤ 180, Fl(2,4,6;8) ≤ 180; the points' disagreement on Fl(7) ≤ 60.
 
-    python benchmarks/check.py [--quick] [--cases "Fl(6);Fl(7)"]
+    python benchmarks/check.py [--quick] [--cases "Fl(6) Fl(2,4,6;8)"]
 """
 from __future__ import annotations
 
@@ -39,9 +39,9 @@ def timed(flag, names, method):
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="Fl(5), Fl(6), Fl(1,3,5;7) only")
-    parser.add_argument("--cases", default=None, help="';'-separated case names")
+    parser.add_argument("--cases", default=None, help="case names separated by spaces")
     args = parser.parse_args()
-    names = args.cases.split(";") if args.cases else (
+    names = args.cases.split() if args.cases else (
         ["Fl(5)", "Fl(6)", "Fl(1,3,5;7)"] if args.quick else list(TARGETS))
     rows = []
     for name in names:

@@ -626,8 +626,10 @@ def overall_verdict(presentations: Dict[str, PresentationReport], pairs: List[Pa
         return "consistent", (f"every relation vanishes at every Bethe point to order "
                               f"s^{order}; not proven")
     undecided = [r.name for r in presentations.values() if r.complete is None]
-    return "inconclusive", ("not decided for " + ", ".join(undecided) if undecided else
-                            "some pair is inconclusive")
+    budget = any("time budget" in note for r in presentations.values() for note in r.notes)
+    return "inconclusive", ("not decided for " + ", ".join(undecided)
+                            + (" (the exact route ran past --budget)" if budget else "")
+                            if undecided else "some pair is inconclusive")
 
 
 # ---------------------------------------------------------------------------------------
@@ -783,6 +785,9 @@ def _certificate_kind(verdict: str, pairs: List[PairReport],
         all(r.exact for r in presentations.values()))
     if verdict == "consistent":
         return False, "Bethe points to order s^N (not a proof)"
+    if exact and verdict == "disagree" and pairs and all(
+            p.method == "Bethe points" for p in pairs if p.verdict == "disagree"):
+        return True, "exact witness at the Bethe points (no probability)"
     if exact:
         return True, "exact at a random specialisation (probabilistic)"
     return False, "not decided"

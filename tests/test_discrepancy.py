@@ -152,9 +152,9 @@ def test_shipped_conjecture_report(shipped_result, tmp_path):
         assert f"- {key}: {certificate[key]}" in markdown
     assert ", ".join(map(str, certificate["weights"])) in markdown
     assert ", ".join(map(str, certificate["q_line"])) in markdown
-    # an exact witness at a random specialisation: probabilistic only through that choice
+    # a witness at the Bethe points: exact, and no probability enters (docs/verdicts.md §3)
     assert certificate["exact"] is True
-    assert certificate["kind"] == "exact at a random specialisation (probabilistic)"
+    assert certificate["kind"] == "exact witness at the Bethe points (no probability)"
     assert f"- {certificate['kind']}, 1 trial(s)" in markdown
     assert record["command"] in markdown and f"--seed {SEED}" in record["command"]
 
