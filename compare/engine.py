@@ -709,6 +709,8 @@ def exact_reports(families: Sequence[Family], flag: FlagType,
                   status: Dict[str, Status], budget: Optional[float]) -> None:
     """The exact route for every presentation not already refuted by the points."""
     from ringmatch.presentations import get_family
+    if all(status[f.name].equal is False or is_reference_family(f) for f in families):
+        return     # everything is decided already: refuted at the points, or the reference
     try:
         with groebner.time_budget(budget):
             ref = reference_ideal(flag, residues)
