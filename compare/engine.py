@@ -40,7 +40,7 @@ from ringmatch.presentations.flagtype import FlagType
 from ringmatch.presentations.interface import Family, build_specialised, build_symbolic
 from ringmatch.presentations.lambda_classes import det_S
 
-from . import algebra, groebner, points, transport
+from . import algebra, groebner, lifting, points, transport
 
 SCHEMA_VERSION = 2
 # Every case up to this rank (all flag types with n ≤ 7, and Fl(2,4,6;8)) is decided exactly
@@ -544,7 +544,7 @@ def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Spe
                    order: int, reports: Dict[str, PresentationReport]) -> dict:
     """Fill separates / failures / holds-to-order from the Bethe points.  A failing
     relation is an exact refutation; vanishing to order s^N only says so."""
-    lifted = points.lift_points(flag, line, order)
+    lifted = lifting.lift_points(flag, line, order)
     for family in families:
         report = reports[family.name]
         result = points.check_holds_family(family, flag, lifted)
@@ -652,7 +652,7 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
     if use_points and equivariant:
         try:
             points_record = points_reports(families, flag, line, order, reports)
-        except points.LiftError as error:
+        except lifting.LiftError as error:
             for report in reports.values():
                 report.notes.append(f"Bethe points unavailable: {error}")
     elif use_points:

@@ -84,9 +84,7 @@ from ringmatch.presentations.meanings import meaning_problem
 
 from . import algebra, lifting
 from .iso_interpolate import reconstruct_directions
-# ExactCoefficient and GeneratorFormula are imported from here by reports/isomorphism.py
-from .iso_records import (Bounds, Direction, ExactCoefficient, GeneratorFormula,  # noqa: F401
-                          IsoResult)
+from .iso_records import Bounds, Direction, IsoResult
 from .iso_search import PADE_SLACK, SearchData, lift_line, meaning_degree, point_values, \
     search_direction
 from .iso_verify import verify_at_points, verify_by_groebner

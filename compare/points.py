@@ -16,9 +16,7 @@ from ringmatch.presentations.interface import Family, Generator, Presentation, b
 from ringmatch.presentations.meanings import Meaning, meaning_problem
 
 from . import series as ps
-# LiftError and lift_points are read from here by compare/engine.py
-from .lifting import (BethePoints, LiftedPoint, LiftError, Setup, lift_points,  # noqa: F401
-                      make_setup)
+from .lifting import BethePoints, LiftedPoint, Setup, make_setup
 from .series import Series
 
 

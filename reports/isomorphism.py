@@ -14,7 +14,7 @@ from typing import Dict, List, Optional, Sequence
 
 import sympy
 
-from ringmatch.compare.iso import Direction, ExactCoefficient, GeneratorFormula, IsoResult
+from ringmatch.compare.iso_records import Direction, ExactCoefficient, GeneratorFormula, IsoResult
 
 FACTOR_LIMIT = 20      # numerators with more terms are printed expanded (factoring is slow)
 
