@@ -402,7 +402,8 @@ def _note_several_sweeps(store: str, selection: dict) -> None:
 
 def cmd_table(args) -> int:
     from ringmatch.reports.frames import SourceError
-    from ringmatch.reports.tables import TableError, TableOptions, parse_columns, render
+    from ringmatch.reports.tables import TableError, TableOptions, parse_columns
+    from .table_command import render
     input_file_usable("results store ", args.store)
     selection, selection_words = _selection(args)
     words = ["table", args.store, "--format", args.format, *selection_words]

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from typing import List, Optional
 
 from .frames import Source
-from .tables import TableOptions, build_table, latex_table, markdown_table
+from .tables import Table, TableError, TableOptions, build_table, latex_table, markdown_table
 
 
 def _html_table(headings: List[str], rows: List[List[str]]) -> str:
@@ -27,12 +27,14 @@ def _html_table(headings: List[str], rows: List[List[str]]) -> str:
 
 @dataclass
 class ResultsView:
-    """The appendix table of a store (or rows), shown in a notebook."""
+    """The appendix table of a store (or rows), shown in a notebook; `table` is one prepared
+    with its relations and isomorphisms (`compare.table_command.prepared_table`)."""
     source: Source
     options: TableOptions = field(default_factory=TableOptions)
+    table: Optional[Table] = None
 
     def _table(self):
-        return build_table(self.source, self.options)
+        return self.table if self.table is not None else build_table(self.source, self.options)
 
     def _repr_html_(self) -> str:
         table = self._table()
@@ -50,11 +52,21 @@ class ResultsView:
         return markdown_table(self._table(), self.options)
 
 
-def results_view(source: Source, **options) -> ResultsView:
-    """`options` are the fields of `reports.tables.TableOptions` (columns, group_by_n, …)."""
+def table_options(options: dict) -> TableOptions:
     if "columns" in options:
-        options["columns"] = tuple(options["columns"])
-    return ResultsView(source, TableOptions(**options))
+        options = dict(options, columns=tuple(options["columns"]))
+    return TableOptions(**options)
+
+
+def results_view(source: Source, **options) -> ResultsView:
+    """`options` are the fields of `reports.tables.TableOptions` (columns, group_by_n, …).
+    Relations and isomorphisms are computed, which reports never do: for those, call
+    `ringmatch.compare.table_command.results_view` with the same arguments."""
+    chosen = table_options(options)
+    if chosen.relations or chosen.isomorphisms:
+        raise TableError("relations and isomorphisms are computed: use "
+                         "ringmatch.compare.table_command.results_view for them")
+    return ResultsView(source, chosen)
 
 
 @dataclass

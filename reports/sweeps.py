@@ -2,13 +2,13 @@
 with its witnesses (rendered from a `compare.sweep.SweepOutcome`, never computed here)."""
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Dict, List, Optional, Sequence, Tuple
+from typing import Dict, List, Optional, Sequence, Tuple
 
 from .frames import VERDICTS
 from .summary import witness_text
 
-if TYPE_CHECKING:
-    from ringmatch.compare.sweep import SweepOutcome
+# `SweepOutcome` in the annotations is compare.sweep.SweepOutcome, named but not imported:
+# reports import no computing module, not even for type checking (tests/test_layers.py).
 
 
 def table_rows(outcome: SweepOutcome) -> List[list]:

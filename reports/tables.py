@@ -2,16 +2,17 @@
 
 One row per case.  Columns are chosen by key (`COLUMNS`); rows can be grouped by n; small
 cases can be followed by their relations and by an explicit change of generators between two
-of their presentations (compare.iso, at a seed taken from the stored certificate), both in
-display math (LaTeX and Markdown).  Every table ends with the reproducibility block of
-`reports.provenance`, plus the seeds of the isomorphisms when there are any.
+of their presentations, both in display math (LaTeX and Markdown).  Nothing is computed here:
+the presentations (`CaseRelations`) and the isomorphisms (`CaseIsomorphism`) are built by the
+command line (`compare/table_command.py`) and handed to `build_table`.  Every table ends with
+the reproducibility block of `reports.provenance`, plus the seeds of the isomorphisms when there
+are any.
 """
 from __future__ import annotations
 
 import csv
 import io
 import re
-import zlib
 from pathlib import Path
 from dataclasses import dataclass, field, replace
 from typing import Callable, Dict, List, Optional, Sequence, Tuple
@@ -121,13 +122,18 @@ class Table:
     headings: List[Column]
     groups: List[Tuple[Optional[int], List[List[str]]]]
     records: List[dict]
-    rows: List[dict]                      # the store rows, for relations and provenance
+    rows: List[dict]                      # the store rows, for provenance
     provenance: dict = field(default_factory=dict)
+    relations: List["CaseRelations"] = field(default_factory=list)
     isomorphisms: List["CaseIsomorphism"] = field(default_factory=list)
     name: Optional[str] = None            # the source file's stem, for the default label
 
 
-def build_table(source: Source, options: TableOptions = TableOptions()) -> Table:
+def build_table(source: Source, options: TableOptions = TableOptions(), *,
+                relations: Sequence["CaseRelations"] = (),
+                isomorphisms: Sequence["CaseIsomorphism"] = ()) -> Table:
+    """The table of the selected rows; `relations` and `isomorphisms` are what the command
+    line computed for them (compare/table_command.py), printed when the options ask."""
     rows = select_rows(load_rows(source), sweep=options.sweep,
                        presentations=options.presentations, equivariant=options.equivariant)
     if not rows and (options.presentations or options.equivariant is not None):
@@ -146,9 +152,8 @@ def build_table(source: Source, options: TableOptions = TableOptions()) -> Table
     table = Table(columns, groups, records, rows, prov.provenance(rows, options.command))
     if isinstance(source, (str, Path)):
         table.name = Path(source).stem
-    if options.isomorphisms:
-        searched = (case_isomorphism(row, options.isomorphisms_max_rank) for row in rows)
-        table.isomorphisms = [found for found in searched if found is not None]
+    table.relations = list(relations)
+    table.isomorphisms = list(isomorphisms)
     return table
 
 
@@ -529,7 +534,7 @@ def latex_table(table: Table, options: TableOptions = TableOptions()) -> str:
                   *_COMPACT, rf"\begin{{tabular}}{{{spec}}}", r"\toprule", header, r"\midrule",
                   *body, r"\bottomrule", r"\end{tabular}", r"\end{table}"]
     if options.relations:
-        lines += relations_latex(table.rows, options.relations_max_rank)
+        lines += relations_latex(table.relations)
     if options.isomorphisms:
         lines += isomorphisms_latex(table.isomorphisms)
     lines += [f"% {line}" for line in block_lines(table)]
@@ -609,26 +614,13 @@ def _label_text(label: str) -> str:
     return rf"\text{{[{label_latex(label)}]}}"
 
 
-def _case_relations(row: dict, max_rank: int):
-    """(presentation name, generators, [(label, lines)]) for each presentation of a small
-    case that can be rebuilt by name; names that cannot are returned with None."""
-    from ringmatch.presentations import get_family
-    from ringmatch.presentations.flagtype import parse_flag
-    from ringmatch.presentations.interface import build_symbolic
-    flag = parse_flag(row["case"])
-    if flag.rank > max_rank:
-        return []
-    equivariant = (row.get("result") or {}).get("equivariant", True)
-    out = []
-    for name in row["presentations"]:
-        try:
-            family = get_family(name)
-            presentation = build_symbolic(family, flag, equivariant=equivariant)
-        except Exception:   # a file that moved, a plug-in not installed here
-            out.append((name, None, None))
-            continue
-        out.append((family.name, presentation.generators, presentation_relations(presentation)))
-    return out
+@dataclass
+class CaseRelations:
+    """One presentation of a small case, built by the command line for its relations."""
+    case: str
+    name: str
+    presentation: object = None           # presentations.interface.Presentation; None: not
+                                          # available here (a moved file, a missing plug-in)
 
 
 def presentation_relations(presentation) -> List[Tuple[str, List[str], bool]]:
@@ -690,32 +682,31 @@ def label_latex(label: str) -> str:
     return out
 
 
-def relations_latex(rows: Sequence[dict], max_rank: int) -> List[str]:
+def relations_latex(found: Sequence[CaseRelations]) -> List[str]:
     lines: List[str] = []
-    for row in rows:
-        for name, generators, relations in _case_relations(row, max_rank):
-            title = f"{row['case']}, {name}"
-            if relations is None:
-                lines.append(f"% relations of {title}: presentation not available here")
-                continue
-            heading = f"{case_latex(row['case'])}, {latex_escape(name)}"
-            lines += ["", rf"\paragraph{{{heading}}}", *align_lines(relations)]
+    for item in found:
+        title = f"{item.case}, {item.name}"
+        if item.presentation is None:
+            lines.append(f"% relations of {title}: presentation not available here")
+            continue
+        heading = f"{case_latex(item.case)}, {latex_escape(item.name)}"
+        lines += ["", rf"\paragraph{{{heading}}}",
+                  *align_lines(presentation_relations(item.presentation))]
     if any("(T)" in line for line in lines):
         lines.insert(0, "\n" + ELEMENTARY_NOTE)
     return lines
 
 
-def relations_markdown(rows: Sequence[dict], max_rank: int) -> List[str]:
+def relations_markdown(found: Sequence[CaseRelations]) -> List[str]:
     lines: List[str] = []
-    for row in rows:
-        for name, _, relations in _case_relations(row, max_rank):
-            if relations is None:
-                lines += ["", f"Relations of {row['case']}, {name}: presentation not "
-                          "available here."]
-                continue
-            lines += ["", f"**{row['case']}, {name}**", ""]
-            for label, parts, _ in relations:
-                lines += [f"[{label}]", "", "$$", " ".join(parts), "$$", ""]
+    for item in found:
+        if item.presentation is None:
+            lines += ["", f"Relations of {item.case}, {item.name}: presentation not "
+                      "available here."]
+            continue
+        lines += ["", f"**{item.case}, {item.name}**", ""]
+        for label, parts, _ in presentation_relations(item.presentation):
+            lines += [f"[{label}]", "", "$$", " ".join(parts), "$$", ""]
     if any("(T)" in line for line in lines):
         lines.insert(0, "\n" + ELEMENTARY_NOTE)
     return lines
@@ -737,85 +728,9 @@ class CaseIsomorphism:
     pair: Optional[Tuple[str, str]] = None
     seed: Optional[int] = None
     seed_origin: str = ""                 # where the seed comes from, for the block
-    result: object = None                 # compare.iso.IsoResult
+    result: object = None                 # compare.iso_records.IsoResult
     legend: List[Tuple[str, str]] = field(default_factory=list)   # (name, LaTeX of its class)
     note: Optional[str] = None            # why nothing was computed
-
-
-def finder_problem(family, flag) -> Optional[str]:
-    """Why compare.iso cannot take this presentation's generators, or None."""
-    from ringmatch.compare import points
-    reason = family.unsupported(flag)
-    if reason:
-        return f"no presentation for {flag.name}: {reason}"
-    generators = family.generators(flag)
-    if any(g.meaning.kind == "root" for g in generators):
-        # compare/iso.py: a Chern root is not symmetric in the weights, so it has no formula
-        # with coefficients rational in T and q.
-        return "its generators are Chern roots, which have no formula of the form the finder " \
-               "looks for (coefficients rational in T and q)"
-    for g in generators:
-        problem = points.meaning_problem(g.meaning, flag)
-        if problem:
-            return f"generator {g.name}: {problem}"
-    return None
-
-
-def isomorphism_seed(row: dict) -> Tuple[int, str]:
-    """The seed of the check's first trial, so that the table is reproducible from the store;
-    a row without one gets a seed fixed by its case name."""
-    seed = ((row.get("result") or {}).get("certificate") or {}).get("seed")
-    if seed is not None:
-        return int(seed) % 2**32, "the check's seed"
-    return zlib.crc32(row["case"].encode()), "CRC-32 of the case name (no seed stored)"
-
-
-def case_isomorphism(row: dict, max_rank: int) -> Optional[CaseIsomorphism]:
-    """Search the first two presentations of a small case that the finder can take; None for
-    cases above max_rank or with fewer than two presentations."""
-    from ringmatch.compare.iso import IsoInputError, find_isomorphism
-    from ringmatch.presentations import get_family
-    from ringmatch.presentations.flagtype import parse_flag
-    from ringmatch.presentations.interface import PresentationError
-    flag = parse_flag(row["case"])
-    names = list(row["presentations"])
-    if flag.rank > max_rank or len(names) < 2:
-        return None
-    found = CaseIsomorphism(row["case"], [])
-    if not (row.get("result") or {}).get("equivariant", True):
-        found.note = "not equivariant: the fixed points collide when every T_j = 1, and the " \
-                     "finder evaluates at them"
-        return found
-    families = []
-    for name in names:
-        if len(families) == 2:
-            break
-        try:
-            family = get_family(name)
-            problem = finder_problem(family, flag)
-        except Exception as error:   # a file that moved, a plug-in not installed here
-            family, problem = None, f"presentation not available here ({error})"
-        if problem:
-            found.skipped.append((name, problem))
-        else:
-            families.append(family)
-    if len(families) < 2:
-        found.note = "fewer than two presentations the finder can take"
-        return found
-    source, target = families
-    found.pair = (source.name, target.name)
-    found.seed, found.seed_origin = isomorphism_seed(row)
-    try:
-        found.result = find_isomorphism(flag, source, target, seed=found.seed)
-    except (PresentationError, IsoInputError) as error:
-        found.note = f"the finder cannot compare {source.name} with {target.name}: {error}"
-        return found
-    meanings = {}
-    for family in families:
-        for g in family.generators(flag):
-            meanings.setdefault(g.name, generator_latex(g))
-    found.legend = sorted(meanings.items())
-    return found
 
 
 def _verdict(result) -> str:
@@ -948,19 +863,32 @@ def markdown_table(table: Table, options: TableOptions = TableOptions()) -> str:
     lines.insert(0, plain_caption(table, options) + "[^reproduce]")
     lines.insert(1, "")
     if options.relations:
-        lines += relations_markdown(table.rows, options.relations_max_rank) + [""]
+        lines += relations_markdown(table.relations) + [""]
     if options.isomorphisms:
         lines += isomorphisms_markdown(table.isomorphisms) + [""]
     lines.append("[^reproduce]: " + "  \n    ".join(block_lines(table)))
     return "\n".join(lines) + "\n"
 
 
-def render(source: Source, fmt: str, options: TableOptions = TableOptions()) -> str:
+def check_format(fmt: str) -> None:
     if fmt not in FORMATS:
         raise TableError(f"unknown format {fmt!r}; choose from {', '.join(FORMATS)}")
-    if fmt == "csv":      # no display math in CSV: do not spend the searches
+
+
+def render(source: Source, fmt: str, options: TableOptions = TableOptions(), *,
+           relations: Sequence[CaseRelations] = (),
+           isomorphisms: Sequence[CaseIsomorphism] = ()) -> str:
+    """The table in `fmt`; relations and isomorphisms as computed by the command line
+    (`compare.table_command.render` computes them and calls this)."""
+    check_format(fmt)
+    if fmt == "csv":      # no display math in CSV
         options = replace(options, isomorphisms=False)
-    table = build_table(source, options)
+    table = build_table(source, options, relations=relations, isomorphisms=isomorphisms)
+    return render_table(table, fmt, options)
+
+
+def render_table(table: Table, fmt: str, options: TableOptions = TableOptions()) -> str:
+    check_format(fmt)
     if fmt == "latex":
         return latex_table(table, options)
     if fmt == "csv":

@@ -118,6 +118,39 @@ def test_engine_imports_no_family_module():
         "\n".join(offending)
 
 
+# Reports render results and never compute (DEVELOPERS.md, "Layers"): no module of reports/
+# imports the compare modules that compute; records-only modules (iso_records, store) may be
+# read.  A name matches the module and every module it begins (iso → iso_search, iso_verify).
+COMPUTING = ("engine", "iso", "groebner", "points", "lifting", "sweep", "scan", "schubert")
+RECORDS_ONLY = {"ringmatch.compare.iso_records"}
+
+
+def computing_imports(found: Dict[Tuple[str, str], str]) -> List[str]:
+    return [f"{where}: {source} imports {target}"
+            for (source, target), where in sorted(found.items())
+            if layer_of(source) == "reports" and target.startswith("ringmatch.compare.")
+            and target.rpartition(".")[2].startswith(COMPUTING) and target not in RECORDS_ONLY]
+
+
+def test_reports_import_no_computing_module():
+    offending = computing_imports(edges())
+    assert not offending, "compute in the command line (e.g. compare/table_command.py) and " \
+        "pass the results to the report:\n" + "\n".join(offending)
+
+
+def test_the_computing_check_fails_on_a_violation():
+    # the check above, fed one made-up edge of each kind
+    made_up = {("ringmatch.reports.tables", "ringmatch.compare.iso"): "reports/tables.py:1",
+               ("ringmatch.reports.tables", "ringmatch.compare.iso_search"): "reports/tables.py:2",
+               ("ringmatch.reports.notebook", "ringmatch.compare.engine"): "reports/notebook.py:3",
+               ("ringmatch.reports.isomorphism", "ringmatch.compare.iso_records"): "x:1",
+               ("ringmatch.compare.table_command", "ringmatch.compare.iso"): "x:2"}
+    assert computing_imports(made_up) == [
+        "reports/notebook.py:3: ringmatch.reports.notebook imports ringmatch.compare.engine",
+        "reports/tables.py:1: ringmatch.reports.tables imports ringmatch.compare.iso",
+        "reports/tables.py:2: ringmatch.reports.tables imports ringmatch.compare.iso_search"]
+
+
 def test_allow_list_is_still_needed():
     stale = ALLOWED - set(edges())
     assert not stale, f"fixed, remove from ALLOWED in tests/test_layers.py: {sorted(stale)}"

@@ -24,6 +24,8 @@ from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.reports.frames import FRAME_COLUMNS, SourceError, load_rows, results_frame, row_from_result
 from ringmatch.reports.tables import (LONGTABLE_ROWS, case_latex, TableError, TableOptions, build_table, csv_table,
                             latex_table, markdown_table, parse_columns, render)
+# Relations and isomorphisms are computed by the command line, reports only render them.
+from ringmatch.compare.table_command import prepared_table, render as computed_render
 
 from conftest import run_cli
 
@@ -190,7 +192,8 @@ def test_certificate_in_the_rows_when_the_verdict_does_not_decide_it(rows):
 
 
 def test_relations_of_small_cases_in_display_math(rows):
-    text = latex_table(build_table(rows, TableOptions(relations=True)), TableOptions(relations=True))
+    text = latex_table(prepared_table(rows, "latex", TableOptions(relations=True)),
+                       TableOptions(relations=True))
     # case names in math mode, as in the table
     assert r"\paragraph{$\mathbb{P}^{2}$, whitney}" in text
     assert r"\paragraph{$\mathrm{Fl}(3)$, whitney-sign-error}" in text
@@ -235,7 +238,7 @@ def compile_latex(source: str, directory):
 def test_latex_compiles_standalone_with_relations(rows, tmp_path):
     options = TableOptions(group_by_n=True, relations=True, standalone=True,
                            command="ringmatch table runs.db --format latex")
-    compile_latex(render(rows, "latex", options), tmp_path)
+    compile_latex(computed_render(rows, "latex", options), tmp_path)
 
 
 @pytest.mark.parametrize("longtable", [True, False])
@@ -320,6 +323,12 @@ def test_notebook_records_render_without_ipython(rows):
     assert check_view(rows[0]["result"])._repr_latex_() is None   # nothing failed
 
     relations = relations_view("whitney", "P2")._repr_latex_()
+    # relations under the table are computed: the command line's view prepares them
+    with pytest.raises(TableError, match="table_command.results_view"):
+        results_view(rows, relations=True)
+    from ringmatch.compare.table_command import results_view as computed_view
+    assert r"\paragraph{$\mathbb{P}^{2}$, whitney}" in \
+        computed_view(rows, relations=True)._repr_latex_()
     assert relations.startswith(r"$$\begin{aligned}") and relations.count(r"\text{[level") == 3
 
     probe = subprocess.run([sys.executable, "-c", "import sys, reports.notebook, "
@@ -497,7 +506,7 @@ def align_blocks(text, title):
 
 def test_isomorphisms_latex_give_the_change_of_variables(iso_store):
     options = TableOptions(isomorphisms=True, command="ringmatch table runs.db --isomorphisms")
-    text = render(iso_store, "latex", options)
+    text = computed_render(iso_store, "latex", options)
     for case in ("Gr(2;4)", "Fl(3)"):
         inverse, forward = change_of_variables(case)
         title = rf"\paragraph{{Isomorphism {case_latex(case)}, whitney $\to$ vieta}}"
@@ -518,11 +527,11 @@ def test_isomorphisms_latex_give_the_change_of_variables(iso_store):
         assert f"{case} whitney->vieta seed {seed} (the check's seed)" in block[0]
     assert "Fl(1,2;4)" not in block[0]
     assert "produced by: ringmatch table runs.db --isomorphisms" in text
-    assert render(iso_store, "latex", options) == text      # same seeds, same output
+    assert computed_render(iso_store, "latex", options) == text      # same seeds, same output
 
 
 def test_isomorphisms_markdown_has_the_same_formulas(iso_store):
-    text = render(iso_store, "markdown", TableOptions(isomorphisms=True))
+    text = computed_render(iso_store, "markdown", TableOptions(isomorphisms=True))
     for case in ("Gr(2;4)", "Fl(3)"):
         assert f"**Isomorphism {case}, whitney → vieta**: Found and verified" in text
         inverse, forward = change_of_variables(case)
@@ -537,14 +546,14 @@ def test_isomorphisms_markdown_has_the_same_formulas(iso_store):
 
 def test_isomorphisms_latex_compiles(iso_store, tmp_path):
     options = TableOptions(isomorphisms=True, relations=True, standalone=True)
-    compile_latex(render(iso_store, "latex", options), tmp_path)
+    compile_latex(computed_render(iso_store, "latex", options), tmp_path)
 
 
 def test_relations_and_isomorphisms_fit_a_column_of_two(iso_store, tmp_path):
     """Long relations (bethe's Chern-root equations among them) and changes of generators
     are broken into lines that fit one column of a two-column article: TeX reports no
     overfull line."""
-    fragment = render(iso_store, "latex", TableOptions(isomorphisms=True, relations=True))
+    fragment = computed_render(iso_store, "latex", TableOptions(isomorphisms=True, relations=True))
     (tmp_path / "results.tex").write_text(fragment)
     paper = "\n".join([r"\documentclass[twocolumn]{article}",
                        r"\usepackage{booktabs,amssymb,amsmath}", r"\allowdisplaybreaks",
