@@ -51,7 +51,12 @@ def main(argv: list) -> int:
         # Collection takes a few seconds before pytest's first line: say what is coming.
         print("dev.py: running the test suite (pytest); it first prints how many tests and "
               "how long the last whole run took", flush=True)
-        command = [str(python_in_venv()), "-m", "pytest", *argv[1:]]
+        extra = []
+        if os.environ.get("CI") == "true":
+            # The same command as on a developer's machine; under CI it also runs the slow
+            # tests and the full Hypothesis example counts.
+            extra = ["--slow", "--hypothesis-profile=ci"]
+        command = [str(python_in_venv()), "-m", "pytest", *extra, *argv[1:]]
     return subprocess.run(command, cwd=HERE).returncode
 
 
