@@ -400,11 +400,30 @@ def _note_several_sweeps(store: str, selection: dict) -> None:
               + ". Choose one with --sweep KEY.", file=sys.stderr)
 
 
+def _only_schubert_rows(path: str) -> bool:
+    """A store holding Schubert tables (`schubert --store`) and no sweep rows."""
+    if path.lower().endswith(".json"):
+        return False
+    from ringmatch.reports.frames import SourceError, load_rows, load_schubert_rows
+    try:
+        return bool(load_schubert_rows(path)) and not load_rows(path)
+    except SourceError:
+        return False
+
+
 def cmd_table(args) -> int:
     from ringmatch.reports.frames import SourceError
     from ringmatch.reports.tables import TableError, TableOptions, parse_columns
     from .table_command import render
     input_file_usable("results store ", args.store)
+    if args.schubert or _only_schubert_rows(args.store):
+        from ringmatch.reports.tables import render_schubert
+        command = _output_command(["table", args.store, "--schubert", "--format", args.format])
+        try:
+            sys.stdout.write(render_schubert(args.store, args.format, command=command))
+        except (SourceError, TableError) as error:
+            raise UsageError(str(error)) from None
+        return 0
     selection, selection_words = _selection(args)
     words = ["table", args.store, "--format", args.format, *selection_words]
     words += ["--columns", args.columns] if args.columns else []
@@ -572,6 +591,9 @@ def build_parser() -> argparse.ArgumentParser:
                         "facts shared by every row and the verdict counts follow it")
     p.add_argument("--label", metavar="LABEL",
                    help="LaTeX \\label (default tab:ringmatch-<store name>)")
+    p.add_argument("--schubert", action="store_true",
+                   help="the Schubert multiplication tables stored by `ringmatch schubert "
+                        "--store` (the default for a store holding nothing else)")
     add_selection_arguments(p)
     p.set_defaults(run=cmd_table)
 

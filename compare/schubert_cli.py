@@ -33,8 +33,16 @@ def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_ne
     p.add_argument("--up-to", type=non_negative_int, metavar="N",
                    help="instead of one case, every Grassmannian Gr(k;n) with n <= N, smallest "
                         "first: one line (or JSON object) per case")
+    p.add_argument("--cases", metavar="CASE;CASE…",
+                   help="instead of one case, these cases in sweep order (separated by ';', "
+                        "e.g. 'P2;Gr(2,4);Gr(2,5)'): one line (or JSON object) per case")
     p.add_argument("--stop-at-first", action="store_true",
-                   help="with --up-to: stop at the first case where a check fails")
+                   help="with --up-to or --cases: stop at the first case where a check fails")
+    p.add_argument("--store", metavar="FILE",
+                   help="with --up-to or --cases: keep each case's result (every constant, the "
+                        "checks) as a row of this results store (SQLite); cases stored there "
+                        "under the same settings are read back, not computed again; "
+                        "`ringmatch table FILE --schubert` renders the tables")
     p.add_argument("--presentation", type=presentation_list, default=["whitney"],
                    metavar="NAME[,NAME…]",
                    help="presentation(s) to compute in; with two or more, their tables are "
@@ -108,11 +116,14 @@ def _run(args) -> int:
         raise engine.SchubertError("--json and --latex exclude each other")
     if args.prime < 2**40:
         raise engine.SchubertError(f"--prime {args.prime}: needs a prime of at least 2^40")
-    if (args.case is None) == (args.up_to is None):
-        raise engine.SchubertError("give one case or --up-to N (not both)")
+    cases = getattr(args, "cases", None)
+    if [args.case is not None, args.up_to is not None, cases is not None].count(True) != 1:
+        raise engine.SchubertError("give one case, --up-to N or --cases 'A;B' (one of them)")
+    if getattr(args, "store", None) is not None and args.case is not None:
+        raise engine.SchubertError("--store goes with --up-to or --cases")
     if args.out is not None:
         _usable_folder(args.out)
-    if args.up_to is not None:
+    if args.up_to is not None or cases is not None:
         return _sweep(args, report)
     flag = args.case
     if args.basis == "all":
@@ -248,23 +259,34 @@ def _all_candidates(args, flag, options, report) -> int:
 
 
 def _sweep(args, report) -> int:
-    """Every Gr(k;n), n ≤ N, smallest first, in each presentation with the chosen basis; with
-    --out, cases already there under the same settings are read back instead of recomputed."""
-    from ringmatch.presentations.flagtype import FlagType
+    """Every Gr(k;n), n ≤ N (or the --cases), smallest first, in each presentation with the
+    chosen basis; with --store (else --out), cases already there under the same settings are
+    read back instead of recomputed, and each computed case is stored as it ends."""
+    import time
     if args.latex or args.basis == "all":
-        raise engine.SchubertError("--up-to prints a summary: use it without --latex and "
-                                   "--basis all")
+        raise engine.SchubertError("--up-to and --cases print a summary: use them without "
+                                   "--latex and --basis all")
+    flags = _sweep_flags(args)
+    conn, settings = _open_store(args)
+    stored_rows = {} if conn is None else _stored_rows(conn, settings)
+    run = None
     failed = False
-    for n in range(2, args.up_to + 1):
-        for k in range(1, n):
-            flag = FlagType((k,), n)
-            stored = _stored(args, flag) if args.out is not None else None
-            if stored is not None:
+    try:
+        for flag in flags:
+            stored = _stored(args, flag) if args.out is not None and conn is None else None
+            row = stored_rows.get(flag.name)
+            if row is not None:
+                ok, line = row["passed"], f"{flag.name:<10} stored in {args.store}: " + (
+                    "all checks pass" if row["passed"] else "a check fails")
+                summary = {"case": flag.name, "passed": ok, "stored": True}
+            elif stored is not None:
                 ok, line = stored["passed"], f"{flag.name:<10} stored in {args.out}: " + (
                     "all checks pass" if stored["passed"] else "a check fails")
                 summary = {"case": flag.name, "passed": ok, "stored": True}
             else:
+                started = time.monotonic()
                 results, comparisons = _case(args, flag, args.seed)
+                seconds = time.monotonic() - started
                 ok = _passed(results, comparisons)
                 differences = [c["difference"] for c in comparisons]
                 summary = {"case": flag.name, "passed": ok,
@@ -280,11 +302,59 @@ def _sweep(args, report) -> int:
                 if differences:
                     line += "; tables " + ("agree" if all(d is None for d in differences)
                                            else "DIFFER")
+                payload = _payload(report, results, comparisons)
                 if args.out is not None:
-                    _write(args, flag, report, results, _payload(report, results, comparisons),
-                           ok)
+                    _write(args, flag, report, results, payload, ok)
+                if conn is not None:
+                    from . import store
+                    run = run or store.run_record()
+                    store.save_schubert(conn, settings, flag.name, payload, ok, seconds,
+                                        run=run)
             print(json.dumps(summary) if args.json else line, flush=True)
             failed = failed or not ok
             if failed and args.stop_at_first:
                 return 1
+    finally:
+        if conn is not None:
+            from . import store
+            store.release(conn)
+            conn.close()
     return 1 if failed else 0
+
+
+def _sweep_flags(args) -> list:
+    """The cases of --up-to (every Gr(k;n), n ≤ N) or --cases, in sweep order, no repeats."""
+    from ringmatch.presentations.flagtype import FlagType, parse_flag
+    from .cases import case_order
+    if args.up_to is not None:
+        return [FlagType((k,), n) for n in range(2, args.up_to + 1) for k in range(1, n)]
+    flags = {}
+    for word in args.cases.split(";"):
+        if word.strip():
+            flag = parse_flag(word.strip())
+            flags.setdefault(flag.name, flag)
+    if not flags:
+        raise engine.SchubertError(f"--cases {args.cases!r}: no case named")
+    return sorted(flags.values(), key=case_order)
+
+
+def _open_store(args):
+    """(connection, settings) of --store, claimed for this run; (None, None) without it."""
+    if getattr(args, "store", None) is None:
+        return None, None
+    from . import store
+    settings = store.schubert_settings(args.presentation, basis=args.basis, seed=args.seed,
+                                       prime=args.prime, q_degree=args.q_degree,
+                                       equivariant=args.equivariant, values=_values(args))
+    conn = store.open_schubert_store(args.store)
+    try:
+        store.claim(conn)
+    except BaseException:
+        conn.close()
+        raise
+    return conn, settings
+
+
+def _stored_rows(conn, settings) -> dict:
+    from . import store
+    return store.stored_schubert(conn, settings)

@@ -328,3 +328,128 @@ def _read_only_connection(path) -> sqlite3.Connection:
     (true there: no sweep can be writing to it)."""
     uri = Path(path).resolve().as_uri() + "?mode=ro&immutable=1"
     return sqlite3.connect(uri, uri=True, timeout=30)
+
+
+# ---------------------------------------------------------------------------------------
+# Schubert multiplication tables (`ringmatch schubert --store`): a table of their own in the
+# same file, so that sweeps, `table` and `figure` never meet these rows and stores written
+# before it stay readable both ways (the table is created only when Schubert rows are saved;
+# the schema version is unchanged).
+
+SCHUBERT_SCHEMA = """
+CREATE TABLE IF NOT EXISTS schubert_results (
+    case_name     TEXT NOT NULL,
+    settings_key  TEXT NOT NULL,
+    n             INTEGER NOT NULL,
+    dims          TEXT NOT NULL,
+    presentations TEXT NOT NULL,
+    passed        INTEGER NOT NULL,
+    seconds       REAL NOT NULL,
+    settings      TEXT NOT NULL,
+    result        TEXT NOT NULL,
+    finished_at   TEXT NOT NULL,
+    run           TEXT NOT NULL,
+    PRIMARY KEY (case_name, settings_key)
+);
+"""
+
+SCHUBERT_COLUMNS = ("case_name", "settings_key", "n", "dims", "presentations", "passed",
+                    "seconds", "settings", "result", "finished_at", "run")
+
+
+def open_schubert_store(path) -> sqlite3.Connection:
+    """`open_store` plus the table of Schubert rows."""
+    conn = open_store(path)
+    with conn:
+        conn.executescript(SCHUBERT_SCHEMA)
+    return conn
+
+
+def schubert_settings(presentations: Sequence, *, basis: Optional[str], seed: Optional[int],
+                      prime: int, q_degree: Optional[int], equivariant: bool,
+                      values: Optional[dict] = None) -> dict:
+    """What makes two Schubert tables comparable; a basis file enters by its content."""
+    records = [p if isinstance(p, dict) else presentation_record(p) for p in presentations]
+    if values:
+        records = [dict(r, values=dict(sorted(values.items()))) for r in records]
+    basis_record = {"name": basis}
+    if basis is not None and basis.endswith(".toml") and Path(basis).is_file():
+        basis_record["sha256"] = hashlib.sha256(Path(basis).read_bytes()).hexdigest()
+    return {"kind": "schubert", "presentations": records, "basis": basis_record,
+            "seed": seed, "prime": int(prime), "q_degree": q_degree,
+            "equivariant": bool(equivariant)}
+
+
+def schubert_key(settings: dict) -> str:
+    comparable = dict(settings)
+    basis = settings.get("basis") or {}
+    comparable["basis"] = basis.get("sha256", basis.get("name"))
+    return settings_key(comparable)
+
+
+def stored_schubert(conn: sqlite3.Connection, settings: dict) -> dict:
+    """{case name: row dict} of the Schubert rows stored under these settings."""
+    rows = conn.execute(f"SELECT {', '.join(SCHUBERT_COLUMNS)} FROM schubert_results "
+                        "WHERE settings_key = ?", (schubert_key(settings),))
+    return {row[0]: _schubert_row(row) for row in rows}
+
+
+def save_schubert(conn: sqlite3.Connection, settings: dict, case: str, result: dict,
+                  passed: bool, seconds: float, *, run: Optional[dict] = None) -> None:
+    """One case's Schubert result (the `schubert --json` object), in one transaction."""
+    flag = parse_flag(case)
+    names = [p["name"] for p in settings["presentations"]]
+    finished = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="microseconds")
+    values = (flag.name, schubert_key(settings), flag.n, json.dumps(list(flag.dims)),
+              json.dumps(names), int(bool(passed)), float(seconds),
+              json.dumps(settings, sort_keys=True), json.dumps(result), finished,
+              json.dumps(run or run_record()))
+    with conn:
+        conn.execute(f"INSERT OR REPLACE INTO schubert_results ({', '.join(SCHUBERT_COLUMNS)}) "
+                     f"VALUES ({', '.join('?' * len(SCHUBERT_COLUMNS))})", values)
+
+
+def _schubert_row(row) -> dict:
+    record = dict(zip(SCHUBERT_COLUMNS, row))
+    return {"case": record["case_name"], "settings_key": record["settings_key"],
+            "n": record["n"], "dims": json.loads(record["dims"]),
+            "presentations": json.loads(record["presentations"]),
+            "passed": bool(record["passed"]), "seconds": record["seconds"],
+            "settings": json.loads(record["settings"]), "result": json.loads(record["result"]),
+            "finished_at": record["finished_at"], "run": json.loads(record["run"])}
+
+
+def load_schubert_results(path) -> List[dict]:
+    """Every stored Schubert row, in sweep order (n, then rank, then dims); [] for a store
+    without any."""
+    if not Path(path).is_file():
+        raise StoreError(f"{path}: no such results store")
+    conn = sqlite3.connect(str(path), timeout=30)
+    try:
+        try:
+            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+        except sqlite3.OperationalError as error:
+            if not _cannot_write(error):
+                raise
+            conn.close()
+            conn = _read_only_connection(path)
+            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+        if "schubert_results" not in tables:
+            return []
+        rows = []
+        for row in conn.execute(f"SELECT rowid, {', '.join(SCHUBERT_COLUMNS)} "
+                                "FROM schubert_results"):
+            try:
+                rows.append(_schubert_row(row[1:]))
+            except (ValueError, TypeError) as error:
+                raise StoreError(f"{path}: Schubert row {row[0]} (case {row[1]!r}) is damaged "
+                                 f"({error}); delete that row or use another store") from None
+    except sqlite3.DatabaseError as error:
+        raise StoreError(f"{path}: not a ringmatch results store ({error})") from None
+    finally:
+        conn.close()
+
+    def order(row):
+        flag = FlagType(tuple(row["dims"]), int(row["n"]))
+        return (flag.n, flag.rank, tuple(flag.dims), row["settings_key"])
+    return sorted(rows, key=order)

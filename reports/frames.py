@@ -287,3 +287,18 @@ def distinct(values: Iterable) -> list:
             seen.add(value)
             out.append(value)
     return out
+
+
+def load_schubert_rows(source: Source) -> List[dict]:
+    """The Schubert multiplication tables of a store (`ringmatch schubert --store`), in sweep
+    order; [] for a store without any.  Rows already in memory pass through."""
+    if not isinstance(source, (str, Path)):
+        return list(source)
+    path = Path(source)
+    if not path.is_file():
+        raise SourceError(f"{path}: no such file")
+    from ringmatch.compare.store import load_schubert_results
+    try:
+        return list(load_schubert_results(path))
+    except ValueError as error:
+        raise SourceError(str(error)) from None

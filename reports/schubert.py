@@ -201,3 +201,80 @@ def candidates_text(case: str, outcomes: Dict[str, List[str]]) -> str:
         lines.append(f"  {name:<{width}}  " + ("passes every check" if not failed else
                                                 "fails " + ", ".join(failed)))
     return "\n".join(lines)
+
+
+# ---------------------------------------------------------------------------------------
+# Stored tables (`ringmatch schubert --store FILE`, rendered by `ringmatch table FILE
+# --schubert`): read back from the JSON above, never recomputed
+
+class _Stored:
+    """A run read back from `as_json`, with the attributes the renderers above read."""
+
+    def __init__(self, run: dict):
+        from types import SimpleNamespace
+        self.case, self.presentation = run["case"], run["presentation"]
+        labels = tuple(tuple(lam) for lam in run["labels"])
+        self.basis = SimpleNamespace(name=run["basis"], source=run.get("basis_source", ""),
+                                     labels=labels,
+                                     candidate=run["basis"] if str(run["basis"]).startswith(
+                                         "groth:") else None)
+        self.constants = {
+            (tuple(c["u"]), tuple(c["v"]), tuple(c["w"])):
+                {tuple(int(d) for d in str(key).split(",")): int(value)
+                 for key, value in c["q_polynomial"].items()}
+            for c in run["constants"]}
+        self.checks = list(run.get("check_details") or [
+            {"name": name, "passed": passed, "detail": "", "source": ""}
+            for name, passed in run.get("checks", {}).items()])
+        self.certificate = run.get("certificate") or {}
+        self.notes = list(run.get("notes") or [])
+        self.passed = bool(run.get("passed", all(c["passed"] for c in self.checks)))
+
+
+def stored_runs(row: dict) -> List[_Stored]:
+    """The runs of one stored case: one per presentation (`schubert --json` wraps several in
+    {"runs": [...], "comparisons": [...]})."""
+    result = row["result"]
+    return [_Stored(run) for run in (result["runs"] if "runs" in result else [result])]
+
+
+def _heading(run: _Stored) -> str:
+    return (f"{run.case} in {run.presentation}, basis {run.basis.name}: "
+            + ("all checks pass" if run.passed else "fails " + ", ".join(
+                c["name"] for c in run.checks if not c["passed"])))
+
+
+def stored_markdown(rows: Sequence[dict]) -> str:
+    """One section per stored case and presentation: the checks, then a table u, v, O_u ⋆ O_v
+    (u ≤ v in label order)."""
+    out = []
+    for row in rows:
+        for run in stored_runs(row):
+            out += [f"### {_heading(run)}", ""]
+            out += ["| u | v | O_u ⋆ O_v |", "|---|---|---|"]
+            out += [f"| {_class(u, False)} | {_class(v, False)} | "
+                    f"{_product_terms(run, u, v, False)} |" for u, v in _pairs(run.basis.labels)]
+            out.append("")
+    return "\n".join(out)
+
+
+def stored_csv(rows: Sequence[dict]) -> str:
+    """One line per nonzero structure constant: case, presentation, basis, u, v, w, N(q)."""
+    import csv
+    import io
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(["case", "presentation", "basis", "passed", "u", "v", "w", "q_polynomial"])
+    for row in rows:
+        for run in stored_runs(row):
+            for (u, v, w), poly in run.constants.items():
+                writer.writerow([run.case, run.presentation, run.basis.name, run.passed,
+                                 label_text(u), label_text(v), label_text(w),
+                                 polynomial_text(poly)])
+    return buffer.getvalue()
+
+
+def stored_latex(rows: Sequence[dict], *, command: str = "") -> str:
+    """The appendix fragments of `as_latex`, one per stored case and presentation."""
+    head = [f"% {command}"] if command else []
+    return "\n\n".join(head + [as_latex(run) for row in rows for run in stored_runs(row)]) + "\n"

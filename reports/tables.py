@@ -894,3 +894,21 @@ def render_table(table: Table, fmt: str, options: TableOptions = TableOptions())
     if fmt == "csv":
         return csv_table(table)
     return markdown_table(table, options)
+
+
+def render_schubert(source: Source, fmt: str, *, command: str = "") -> str:
+    """The stored Schubert multiplication tables of a store (`ringmatch schubert --store`),
+    as rendered by reports/schubert.py; nothing is recomputed."""
+    from . import schubert
+    from .frames import load_schubert_rows
+    if fmt not in FORMATS:
+        raise TableError(f"unknown format {fmt!r} (choose from {', '.join(FORMATS)})")
+    rows = load_schubert_rows(source)
+    if not rows:
+        raise TableError(f"{source}: no Schubert tables stored (write them with "
+                         "`ringmatch schubert --cases … --store FILE`)")
+    if fmt == "csv":
+        return schubert.stored_csv(rows)
+    if fmt == "latex":
+        return schubert.stored_latex(rows, command=command)
+    return schubert.stored_markdown(rows)
