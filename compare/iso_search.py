@@ -26,7 +26,7 @@ PADE_SLACK = 2            # series coefficients a Padé form must explain beyond
 def meaning_degree(meaning: Meaning) -> int:
     """Degree under T → tT (every Chern root scales by t, q fixed): λ_j and e_j have degree j,
     L_i and Chern roots degree 1."""
-    return 1 if meaning.kind in ("toda_L", "root") else meaning.index
+    return meaning.degree
 
 
 def monomial_degree(exponents: Sequence[int], degrees: Sequence[int]) -> int:

@@ -86,7 +86,7 @@ def finder_problem(family, flag) -> Optional[str]:
     if reason:
         return f"no presentation for {flag.name}: {reason}"
     generators = family.generators(flag)
-    if any(g.meaning.kind == "root" for g in generators):
+    if any(not g.meaning.kind_record.symmetric for g in generators):
         # compare/iso.py: a Chern root is not symmetric in the weights, so it has no formula
         # with coefficients rational in T and q.
         return "its generators are Chern roots, which have no formula of the form the finder " \

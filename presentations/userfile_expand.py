@@ -23,7 +23,7 @@ import flint
 
 from .flagtype import FlagType
 from .interface import Generator
-from .meanings import Meaning
+from .meanings import KIND_BY_SYNTAX, Meaning
 from .userfile_container import FileSpec, GeneratorDecl, RelationDecl, UnitDecl
 from .userfile_syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Extremum, Loc, Loop,
                               Negate, Node, Num, Power, PresentationFileError, Symbol, Template,
@@ -233,11 +233,10 @@ def _meaning(node: Node, env: dict, st: _State) -> Meaning:
     j = _integer(node.sub, env, st, "an index")
     i = _integer(node.bundle.index, env, st, "a level")
     _in_range(i, 1, flag.m, f"level {i} out of range 1..m = 1..{flag.m}", node.bundle.at)
-    kind, top = {("lambda", "S"): ("lambda_S", flag.k(i)), ("lambda", "Q"): ("lambda_Q", flag.d(i)),
-                 ("e", "Y"): ("vieta_aux", flag.d(i)), ("x", "S"): ("root", flag.k(i))}[
-        (node.func, node.bundle.kind)]
+    kind = KIND_BY_SYNTAX[(node.func, node.bundle.kind)]
+    top = kind.index_bound(flag, i)
     _in_range(j, 1, top, f"index {j} out of range 1..{top} for level {i}", node.at)
-    return Meaning(kind, i, j)
+    return Meaning(kind.name, i, j)
 
 
 def _expand_units(spec: FileSpec, st: _State) -> List[object]:

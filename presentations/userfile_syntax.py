@@ -15,6 +15,8 @@ from typing import List, NoReturn, Optional, Sequence, Tuple, Union
 
 from ringmatch.errors import InputError
 
+from .meanings import KIND_BY_SYNTAX
+
 MAX_EXPRESSION_CHARS = 20_000
 MAX_TOKENS = 5_000
 MAX_DEPTH = 48               # nesting of parentheses, signs, powers, sums, …
@@ -394,8 +396,7 @@ def parse_meaning(source: SourceText) -> Node:
     node = parse_expression(source)
     ok = (isinstance(node, Toda) or
           (isinstance(node, Apply) and not isinstance(node.sub, str) and node.sub is not None
-           and (node.func, node.bundle.kind) in {("lambda", "S"), ("lambda", "Q"), ("e", "Y"),
-                                                 ("x", "S")}))
+           and (node.func, node.bundle.kind) in KIND_BY_SYNTAX))
     if not ok:
         fail(node.at, "a meaning must be one of lambda_j(S_i), lambda_j(Q_i), e_j(Y_i), "
                       "x_a(S_i), L_i")

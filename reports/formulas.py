@@ -90,14 +90,9 @@ def formula(poly, names: Sequence[str], *, latex: bool = False, symmetric: bool 
 # reports): a generator is written as the class it stands for, so the same class has the
 # same symbol in every presentation and no legend is needed.
 
-_MEANING_LATEX = {"lambda_S": r"\lambda_{{{j}}}(S_{{{i}}})", "lambda_Q": r"\lambda_{{{j}}}(Q_{{{i}}})",
-                  "vieta_aux": r"e_{{{j}}}(Y^{{({i})}})", "toda_L": r"L_{{{i}}}",
-                  "root": r"X^{{({i})}}_{{{j}}}"}
-
-
 def generator_latex(generator) -> str:
-    m = generator.meaning
-    return _MEANING_LATEX[m.kind].format(i=m.level, j=m.index)
+    """The LaTeX of the class the generator stands for (its meaning's kind record)."""
+    return generator.meaning.latex
 
 
 def symbols_latex(generators) -> Dict[str, str]:

@@ -98,3 +98,34 @@ def test_an_extra_relation_in_one_ring_only_is_named():
         return whitney.relations(flag, ring) + extra
     result = check_family(_whitney_with(relations=relations))
     assert not result.conforms and "differ in number" in result.problem
+
+
+def test_meaning_kinds_are_one_table():
+    """Each kind of meaning is one record (presentations/meanings.py): its stored name, text,
+    pretty and LaTeX forms, parse pattern and bounds; the forms are the ones files, JSON and
+    reports have always used."""
+    from ringmatch.presentations.flagtype import parse_flag
+    from ringmatch.presentations.meanings import KINDS, meaning_problem, parse_meaning
+    forms = {"lambda_S": ("lambda_2(S_1)", "λ_2(S_1)", r"\lambda_{2}(S_{1})", 2),
+             "lambda_Q": ("lambda_2(Q_1)", "λ_2(Q_1)", r"\lambda_{2}(Q_{1})", 2),
+             "vieta_aux": ("e_2(Y_1)", "e_2(Y^(1))", r"e_{2}(Y^{(1)})", 2),
+             "toda_L": ("L_1", "det S_1 / det S_0", r"L_{1}", 1),
+             "root": ("x_2(S_1)", "X^(1)_2", r"X^{(1)}_{2}", 1)}
+    assert set(KINDS) == set(forms)
+    for kind, (text, pretty, latex, degree) in forms.items():
+        meaning = Meaning(kind, 1, 0 if kind == "toda_L" else 2)
+        assert (meaning.text, meaning.pretty, meaning.latex, meaning.degree) == \
+            (text, pretty, latex, degree)
+        assert parse_meaning(text.replace("_", "_ ", 1)) == meaning
+    with pytest.raises(ValueError, match="unknown meaning kind"):
+        Meaning("lambda_R", 1, 1)
+    with pytest.raises(ValueError, match=r"lambda_j\(S_i\), lambda_j\(Q_i\), e_j\(Y_i\), L_i, "
+                                         r"x_a\(S_i\)"):
+        parse_meaning("y_1(S_1)")
+    flag = parse_flag("Fl(1,3;5)")      # k = 1, 3; d = 2, 2
+    assert meaning_problem(Meaning("lambda_S", 2, 3), flag) is None
+    assert meaning_problem(Meaning("root", 1, 2), flag) == "x_2(S_1): index 2 outside 1…1"
+    assert meaning_problem(Meaning("lambda_Q", 1, 3), flag) == \
+        "lambda_3(Q_1): index 3 outside 1…2"
+    assert meaning_problem(Meaning("toda_L", 3), flag) is None        # levels 1…m+1
+    assert meaning_problem(Meaning("vieta_aux", 3, 1), flag) == "e_1(Y_3): level 3 outside 1…2"
