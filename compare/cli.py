@@ -209,8 +209,9 @@ def cmd_check(args) -> int:
     result = limited_check(args, families, estimate.seconds)
     emit(args, result, check_text(result))
     if args.report is not None:
-        from ringmatch.reports.discrepancy import reproduce_command, write_report
+        from ringmatch.reports.discrepancy import reproduce_command
         from . import parameters
+        from .report_command import write_report
         command = " ".join([reproduce_command(result, args.presentations, args.method),
                             *parameters.shell_words(parameters.values_of(args))])
         paths = write_report(result, args.report, command=command,

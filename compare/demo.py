@@ -58,7 +58,7 @@ def write_table(store_path: Path, target: Path, command: str = "ringmatch demo")
 def write_counterexample(result: dict, folder: Path) -> list:
     """The discrepancy report when reports/discrepancy.py provides one, else the JSON."""
     try:
-        from ringmatch.reports.discrepancy import write_report
+        from .report_command import write_report
     except ImportError:
         path = folder / "counterexample.json"
         path.write_text(json.dumps(result, indent=2) + "\n", encoding="utf-8")

@@ -44,13 +44,6 @@ def prepared_table(source: Source, fmt: str = "latex",
     return table
 
 
-def results_view(source: Source, **options):
-    """`reports.notebook.results_view` with the relations and isomorphisms computed."""
-    from ringmatch.reports.notebook import ResultsView, table_options
-    chosen = table_options(options)
-    return ResultsView(source, chosen, table=prepared_table(source, "latex", chosen))
-
-
 # ---------------------------------------------------------------------------------------
 # Relations of small cases
 

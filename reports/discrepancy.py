@@ -67,21 +67,11 @@ def reproduce_command(result: dict, presentation_args: Optional[Iterable[str]] =
     return shlex.join(words)
 
 
-def _unresolvable_names(names: Iterable[str]) -> list:
-    from ringmatch.presentations import get_family
-    missing = []
-    for name in names:
-        try:
-            get_family(name)
-        except Exception:   # any failure to resolve means the command needs a file path
-            missing.append(name)
-    return missing
-
-
 # ---------------------------------------------------------------------------------------
-# Formulas of the relations involved
+# Formulas of the relations involved (written out by compare/report_command.py, which
+# rebuilds the presentations: reports never compute)
 
-def _failing_labels(result: dict) -> Dict[str, set]:
+def failing_labels(result: dict) -> Dict[str, set]:
     """Relation labels worth writing out, per presentation."""
     labels: Dict[str, set] = {}
     for name, p in result["presentations"].items():
@@ -93,38 +83,6 @@ def _failing_labels(result: dict) -> Dict[str, set]:
             if "relation_of" in w and "relation" in failure:
                 labels.setdefault(w["relation_of"], set()).add(failure["relation"])
     return labels
-
-
-def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = None
-                      ) -> Dict[str, Dict[str, dict]]:
-    """{presentation: {label: {"text", "latex"}}} for the failing and witnessing relations.
-
-    The presentation is rebuilt symbolically (T and q as variables, or T = 1 for a plain
-    check); `families` maps names to Family records for presentations that cannot be found
-    by name (e.g. a family built in a script).  A presentation that cannot be rebuilt is
-    left out and `report_record` says so."""
-    from ringmatch.presentations import get_family
-    from ringmatch.presentations.flagtype import parse_flag
-    from ringmatch.presentations.interface import build_symbolic
-    from ringmatch.reports.formulas import formula, relation_latex, symbols_latex
-
-    flag = parse_flag(result["case"])
-    out: Dict[str, Dict[str, dict]] = {}
-    for name, labels in _failing_labels(result).items():
-        family = (families or {}).get(name)
-        if family is None:
-            try:
-                family = get_family(name)
-            except Exception:
-                continue
-        presentation = build_symbolic(family, flag, equivariant=result["equivariant"])
-        names = presentation.ring.ctx.names()
-        # LaTeX shows generators by their meaning (λ_j(S_i), …), plain text by their names.
-        symbol_latex = symbols_latex(presentation.generators)
-        out[name] = {r.label: {"text": formula(r.poly, names) + " = 0",
-                               "latex": relation_latex(r.poly, names, symbol_latex)}
-                     for r in presentation.relations if r.label in labels}
-    return out
 
 
 # ---------------------------------------------------------------------------------------
@@ -183,9 +141,15 @@ SYMBOL_NOTES = (
 
 
 def report_record(result: dict, *, command: Optional[str] = None,
-                  families: Optional[Mapping[str, object]] = None) -> dict:
-    """Everything the report says, as JSON-able data (the JSON file is exactly this)."""
-    formulas = relation_formulas(result, families)
+                  formulas: Optional[Mapping[str, Mapping[str, dict]]] = None,
+                  unresolvable: Iterable[str] = ()) -> dict:
+    """Everything the report says, as JSON-able data (the JSON file is exactly this).
+
+    `formulas` are the failing and witnessing relations written out,
+    {presentation: {label: {"text", "latex"}}}, and `unresolvable` the presentation names the
+    command line cannot resolve; both come from `compare.report_command`, which rebuilds the
+    presentations (a presentation left out of `formulas` gets a note)."""
+    formulas = formulas or {}
     presentations = []
     for name, p in result["presentations"].items():
         presentations.append({key: p.get(key) for key in (
@@ -200,13 +164,13 @@ def report_record(result: dict, *, command: Optional[str] = None,
               "witnesses": [_witness_entry(w, formulas) for w in pair["witnesses"]]}
              for pair in result["pairs"]]
     notes = []
-    unbuilt = sorted(set(_failing_labels(result)) - set(formulas))
+    unbuilt = sorted(set(failing_labels(result)) - set(formulas))
     if unbuilt:
         notes.append("not rebuilt symbolically (unknown by name; pass its family): "
                      + ", ".join(unbuilt))
     if command is None:
         command = reproduce_command(result)
-        missing = _unresolvable_names(result["presentations"])
+        missing = [name for name in result["presentations"] if name in set(unresolvable)]
         if missing:
             notes.append("the command line knows no presentation called "
                          + ", ".join(missing) + ": give its file path or plug-in instead")
@@ -334,12 +298,15 @@ def markdown_text(record: dict) -> str:
 
 
 def write_report(result: dict, directory, *, command: Optional[str] = None,
-                 families: Optional[Mapping[str, object]] = None) -> Tuple[Path, Path]:
+                 formulas: Optional[Mapping[str, Mapping[str, dict]]] = None,
+                 unresolvable: Iterable[str] = ()) -> Tuple[Path, Path]:
     """Write `<stem>.md` and `<stem>.json` for one `check_case` result into `directory`
     (created if needed) and return their paths.  `command` is the command line to show
-    for reproduction (by default one rebuilt from the certificate); `families` maps
-    presentation names to Family records that cannot be found by name."""
-    record = report_record(result, command=command, families=families)
+    for reproduction (by default one rebuilt from the certificate); `formulas` and
+    `unresolvable` as for `report_record` (`compare.report_command.write_report` computes
+    them)."""
+    record = report_record(result, command=command, formulas=formulas,
+                           unresolvable=unresolvable)
     directory = Path(directory)
     directory.mkdir(parents=True, exist_ok=True)
     stem = case_file_stem(record["case"], record["equivariant"])

@@ -1,9 +1,12 @@
 """Notebook display: small records that Jupyter renders as tables and formulas.
 
 Each record has `_repr_html_`, `_repr_latex_` and `_repr_markdown_`; nothing here imports
-IPython, so the module is as cheap to import in a script as in a notebook.
+IPython, so the module is as cheap to import in a script as in a notebook.  The records hold
+what they show, computed beforehand (reports never compute): make them with the functions of
+`ringmatch.compare.notebook`, which load the table, write the relations out or rebuild the
+presentation first.
 
-    from ringmatch.reports.notebook import results_view, check_view, relations_view
+    from ringmatch.compare.notebook import results_view, check_view, relations_view
     results_view("runs.db")                 # the appendix table, as HTML
     check_view(result)                      # one `check_case` result with its witnesses
     relations_view("whitney", "Fl(3)")      # the relations in display math
@@ -14,8 +17,7 @@ import html
 from dataclasses import dataclass, field
 from typing import List, Optional
 
-from .frames import Source
-from .tables import Table, TableError, TableOptions, build_table, latex_table, markdown_table
+from .tables import Table, TableOptions, latex_table, markdown_table
 
 
 def _html_table(headings: List[str], rows: List[List[str]]) -> str:
@@ -27,14 +29,13 @@ def _html_table(headings: List[str], rows: List[List[str]]) -> str:
 
 @dataclass
 class ResultsView:
-    """The appendix table of a store (or rows), shown in a notebook; `table` is one prepared
-    with its relations and isomorphisms (`compare.table_command.prepared_table`)."""
-    source: Source
+    """The appendix table of a store (or rows), shown in a notebook; the table as prepared by
+    `compare.table_command.prepared_table` (with its relations and isomorphisms)."""
+    table: Table
     options: TableOptions = field(default_factory=TableOptions)
-    table: Optional[Table] = None
 
-    def _table(self):
-        return self.table if self.table is not None else build_table(self.source, self.options)
+    def _table(self) -> Table:
+        return self.table
 
     def _repr_html_(self) -> str:
         table = self._table()
@@ -52,31 +53,14 @@ class ResultsView:
         return markdown_table(self._table(), self.options)
 
 
-def table_options(options: dict) -> TableOptions:
-    if "columns" in options:
-        options = dict(options, columns=tuple(options["columns"]))
-    return TableOptions(**options)
-
-
-def results_view(source: Source, **options) -> ResultsView:
-    """`options` are the fields of `reports.tables.TableOptions` (columns, group_by_n, …).
-    Relations and isomorphisms are computed, which reports never do: for those, call
-    `ringmatch.compare.table_command.results_view` with the same arguments."""
-    chosen = table_options(options)
-    if chosen.relations or chosen.isomorphisms:
-        raise TableError("relations and isomorphisms are computed: use "
-                         "ringmatch.compare.table_command.results_view for them")
-    return ResultsView(source, chosen)
-
-
 @dataclass
 class CheckView:
-    """One `check_case` result: verdict, presentations, pairs and witnesses."""
-    result: dict
+    """One `check_case` result: verdict, presentations, pairs and witnesses, from its
+    discrepancy-report record (`compare.report_command.report_record`)."""
+    record: dict
 
     def _record(self) -> dict:
-        from .discrepancy import report_record
-        return report_record(self.result)
+        return self.record
 
     def _repr_markdown_(self) -> str:
         from .discrepancy import markdown_text
@@ -113,23 +97,14 @@ class CheckView:
         return "$$" + "\n".join(lines) + r"\end{aligned}$$"
 
 
-def check_view(result: dict) -> CheckView:
-    return CheckView(result)
-
-
 @dataclass
 class RelationsView:
-    """A presentation's relations for one flag type, rendered as display math."""
-    presentation: str
-    case: str
-    equivariant: bool = True
+    """A presentation's relations for one flag type, rendered as display math; the
+    presentation as built symbolically (`presentations.interface.Presentation`)."""
+    presentation: object
 
     def _built(self):
-        from ringmatch.presentations import get_family
-        from ringmatch.presentations.flagtype import parse_flag
-        from ringmatch.presentations.interface import build_symbolic
-        family = get_family(self.presentation)
-        return build_symbolic(family, parse_flag(self.case), equivariant=self.equivariant)
+        return self.presentation
 
     def _repr_latex_(self) -> str:
         from .formulas import symbols_latex
@@ -147,7 +122,3 @@ class RelationsView:
     def _repr_markdown_(self) -> str:
         from .formulas import presentation_text
         return "```\n" + presentation_text(self._built()) + "\n```"
-
-
-def relations_view(presentation: str, case: str, *, equivariant: bool = True) -> RelationsView:
-    return RelationsView(presentation, case, equivariant)

@@ -304,7 +304,7 @@ def test_cli_table_errors(tmp_path, results_file, make, args, fragment):
 
 
 def test_notebook_records_render_without_ipython(rows):
-    from ringmatch.reports.notebook import check_view, relations_view, results_view
+    from ringmatch.compare.notebook import check_view, relations_view, results_view
     view = results_view(rows, columns=["case", "verdict"], group_by_n=True)
     page = view._repr_html_()
     assert page.count("<tr>") == 1 + 2 + 1 + 1    # two n-blocks: headers and three cases
@@ -323,16 +323,13 @@ def test_notebook_records_render_without_ipython(rows):
     assert check_view(rows[0]["result"])._repr_latex_() is None   # nothing failed
 
     relations = relations_view("whitney", "P2")._repr_latex_()
-    # relations under the table are computed: the command line's view prepares them
-    with pytest.raises(TableError, match="table_command.results_view"):
-        results_view(rows, relations=True)
-    from ringmatch.compare.table_command import results_view as computed_view
     assert r"\paragraph{$\mathbb{P}^{2}$, whitney}" in \
-        computed_view(rows, relations=True)._repr_latex_()
+        results_view(rows, relations=True)._repr_latex_()
     assert relations.startswith(r"$$\begin{aligned}") and relations.count(r"\text{[level") == 3
 
     probe = subprocess.run([sys.executable, "-c", "import sys, reports.notebook, "
-                            "ringmatch.reports.tables, reports.frames, reports.figures; "
+                            "ringmatch.reports.tables, reports.frames, reports.figures, "
+                            "ringmatch.compare.notebook; "
                             "print('IPython' in sys.modules, 'matplotlib' in sys.modules)"],
                            capture_output=True, text=True, timeout=60)
     assert probe.stdout.split() == ["False", "False"], probe.stderr
