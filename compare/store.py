@@ -21,7 +21,7 @@ import json
 import sqlite3
 import sys
 from pathlib import Path
-from typing import List, Optional, Sequence
+from typing import List, Optional, Sequence, Tuple
 
 from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType, parse_flag
@@ -290,21 +290,8 @@ def sweep_order(row: dict) -> tuple:
 
 def load_results(path) -> List[dict]:
     """Every stored row, in sweep order (n, then rank, then the dims tuple)."""
-    if not Path(path).is_file():
-        raise StoreError(f"{path}: no such results store")
-    # No schema is created here: a reader must never turn some other SQLite file into a
-    # store.  (Not mode=ro first: a read-only reader of a WAL file leaves -wal/-shm files
-    # behind; only where nothing can be written, archived results, is it needed.)
-    conn = sqlite3.connect(str(path), timeout=30)
+    conn, tables = _open_for_reading(path)
     try:
-        try:
-            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
-        except sqlite3.OperationalError as error:
-            if not _cannot_write(error):
-                raise
-            conn.close()
-            conn = _read_only_connection(path)
-            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
         if not {"meta", "results"} <= tables:
             raise StoreError(f"{path}: an SQLite file, but not a ringmatch results store")
         rows = [_checked_row(path, row) for row in conn.execute(
@@ -316,6 +303,30 @@ def load_results(path) -> List[dict]:
     finally:
         conn.close()
     return sorted(rows, key=lambda row: (sweep_order(row), row["settings_key"]))
+
+
+def _open_for_reading(path) -> Tuple[sqlite3.Connection, set]:
+    """A connection to an existing store and the names of its tables.
+
+    No schema is created here: a reader must never turn some other SQLite file into a
+    store.  (Not mode=ro first: a read-only reader of a WAL file leaves -wal/-shm files
+    behind; only where nothing can be written, archived results, is it needed.)"""
+    if not Path(path).is_file():
+        raise StoreError(f"{path}: no such results store")
+    conn = sqlite3.connect(str(path), timeout=30)
+    try:
+        try:
+            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+        except sqlite3.OperationalError as error:
+            if not _cannot_write(error):
+                raise
+            conn.close()
+            conn = _read_only_connection(path)
+            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
+    except sqlite3.DatabaseError as error:
+        conn.close()
+        raise StoreError(f"{path}: not a ringmatch results store ({error})") from None
+    return conn, tables
 
 
 def _cannot_write(error: sqlite3.OperationalError) -> bool:
@@ -422,18 +433,8 @@ def _schubert_row(row) -> dict:
 def load_schubert_results(path) -> List[dict]:
     """Every stored Schubert row, in sweep order (n, then rank, then dims); [] for a store
     without any."""
-    if not Path(path).is_file():
-        raise StoreError(f"{path}: no such results store")
-    conn = sqlite3.connect(str(path), timeout=30)
+    conn, tables = _open_for_reading(path)
     try:
-        try:
-            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
-        except sqlite3.OperationalError as error:
-            if not _cannot_write(error):
-                raise
-            conn.close()
-            conn = _read_only_connection(path)
-            tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master")}
         if "schubert_results" not in tables:
             return []
         rows = []
