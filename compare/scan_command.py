@@ -13,7 +13,6 @@ import sys
 from ringmatch.errors import UsageError
 
 from . import parameters, store
-from .cases import KINDS
 from .sweep import terminal_progress
 from .workers import Limits, available_cores
 
@@ -23,7 +22,7 @@ DEFAULT_STORE = "ringmatch-scans.db"
 def add_arguments(parser, *, prime_argument, positive_int) -> None:
     from . import algebra
     from .scan import DEFAULT_MAX_GRID, parse_axis
-    from .sweep_command import _positive_float
+    from .sweep_command import _positive_float, add_case_selection
     from ringmatch.reports.scan import TABLE_FORMATS
     parser.add_argument("presentation",
                         help="presentation file with [[parameters]] (a path or a shipped name, "
@@ -41,16 +40,7 @@ def add_arguments(parser, *, prime_argument, positive_int) -> None:
     parser.add_argument("--max-grid", type=positive_int, default=DEFAULT_MAX_GRID, metavar="K",
                         help=f"refuse scans of more than K grid points × cases (default "
                              f"{DEFAULT_MAX_GRID})")
-    parser.add_argument("--max-n", type=positive_int, metavar="N",
-                        help="largest ambient dimension n")
-    parser.add_argument("--min-n", type=positive_int, default=2, metavar="N",
-                        help="smallest ambient dimension n; default 2")
-    parser.add_argument("--max-rank", type=positive_int, metavar="R",
-                        help="only flag types of rank (number of fixed points) ≤ R")
-    parser.add_argument("--kind", choices=KINDS,
-                        help="grassmannian, complete, or partial (= every flag type; default)")
-    parser.add_argument("--cases", metavar="'CASE;CASE;…'",
-                        help="explicit cases instead of --kind/--max-n, e.g. 'Gr(2,4);Fl(3)'")
+    add_case_selection(parser, positive_int)
     parser.add_argument("--narrow", action="store_true",
                         help="cases from small to large; drop a value assignment as soon as it "
                              "disagrees")

@@ -19,9 +19,9 @@ from .sweep import DEFAULT_STORE, outcome_json, plan_sweep, run_sweep, sweep_pro
 from .workers import Limits, available_cores
 
 
-def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
-    from . import algebra, parameters
-    parameters.add_argument(parser)
+def add_case_selection(parser, positive_int) -> None:
+    """The options that name the cases (`flags_from_arguments` reads them), shared by
+    `sweep` and `scan`."""
     parser.add_argument("--max-n", type=positive_int, metavar="N",
                         help="largest ambient dimension n")
     parser.add_argument("--min-n", type=positive_int, default=2, metavar="N",
@@ -33,6 +33,12 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
                              "partial (neither a Grassmannian nor a complete flag variety)")
     parser.add_argument("--cases", metavar="'CASE;CASE;…'",
                         help="explicit cases instead of --kind/--max-n, e.g. 'Gr(2,4);Fl(3)'")
+
+
+def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
+    from . import algebra, parameters
+    parameters.add_argument(parser)
+    add_case_selection(parser, positive_int)
     parser.add_argument("--presentations", type=presentation_list,
                         default=["whitney", "vieta"],
                         help="comma-separated names or files; default whitney,vieta")
