@@ -102,7 +102,7 @@ class Source:
 def load_sources(names: Sequence[str], values: Optional[Dict[str, int]] = None) -> List[Source]:
     """`values`: the --set values; each file keeps those it declares (defaults for the rest)."""
     from ringmatch.presentations import presentation_file, userfile
-    from ringmatch.presentations.userfile_container import read_bytes
+    from ringmatch.presentations.userfile.container import read_bytes
     sources = []
     for name in names:
         file = presentation_file(name)
@@ -124,7 +124,7 @@ def load_sources(names: Sequence[str], values: Optional[Dict[str, int]] = None) 
 def family_of(source: Source):
     from ringmatch.presentations import get_family
     from ringmatch.presentations.userfile import family_from_spec
-    from ringmatch.presentations.userfile_container import read_bytes
+    from ringmatch.presentations.userfile.container import read_bytes
     if source.raw is None:
         return get_family(source.name)
     return family_from_spec(read_bytes(source.raw, source.name), dict(source.values))

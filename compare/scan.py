@@ -60,7 +60,7 @@ class ScanPlan:
     name: str                            # the file as the user named it
     reference: Source
     raw: bytes
-    spec: object                         # userfile_container.FileSpec
+    spec: object                         # userfile.container.FileSpec
     fixed: Dict[str, int]                # --set values (not varied)
     axes: List[Axis]
     points: List[Point]

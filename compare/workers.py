@@ -113,12 +113,25 @@ def child_main(writer, task: CaseTask, memory_mib: Optional[int],
     except (PresentationError, PresentationFileError) as error:
         message = ("presentation", str(error))
     except Exception as error:   # a bug must not stop the sweep; it is stored and retried
-        message = ("error", f"{type(error).__name__}: {error}")
+        message = ("memory", None) if memory_mib and _caused_by_memory(error) else \
+            ("error", f"{type(error).__name__}: {error}")
     try:
         writer.send(message)
     except MemoryError:
         writer.send(("memory", None))
     writer.close()
+
+
+def _caused_by_memory(error: BaseException) -> bool:
+    """Whether an exception came from running out of memory under the limit: a MemoryError
+    somewhere in its chain (an import or a library can wrap one in its own error)."""
+    seen = set()
+    while error is not None and id(error) not in seen:
+        if isinstance(error, MemoryError):
+            return True
+        seen.add(id(error))
+        error = error.__cause__ or error.__context__
+    return False
 
 
 CRASHED = "crashed:"

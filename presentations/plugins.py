@@ -75,7 +75,7 @@ def catalogue(builtins: dict, shipped: dict,
               entries: Optional[Iterable[PluginEntry]] = None) -> List[CatalogueLine]:
     """One line per presentation: built-ins, shipped files, then plug-ins."""
     from .userfile import load_spec
-    from .userfile_syntax import PresentationFileError
+    from .userfile.syntax import PresentationFileError
     lines = [CatalogueLine(name, "built-in", family.description)
              for name, family in sorted(builtins.items())]
     for name, path in sorted(shipped.items()):

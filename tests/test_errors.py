@@ -20,7 +20,7 @@ def package_modules():
     names = ["ringmatch.errors"]
     for package in ("ringmatch.compare", "ringmatch.presentations", "ringmatch.reports"):
         module = importlib.import_module(package)
-        names += [f"{package}.{m.name}" for m in pkgutil.iter_modules(module.__path__)]
+        names += [m.name for m in pkgutil.walk_packages(module.__path__, prefix=package + ".")]
     return names
 
 
@@ -47,7 +47,7 @@ def test_every_error_class_is_in_the_hierarchy():
 
 @pytest.mark.parametrize("name", ["ringmatch.presentations.flagtype.FlagTypeError",
                                   "ringmatch.presentations.interface.PresentationError",
-                                  "ringmatch.presentations.userfile_syntax.PresentationFileError",
+                                  "ringmatch.presentations.userfile.syntax.PresentationFileError",
                                   "ringmatch.compare.iso.IsoInputError",
                                   "ringmatch.reports.tables.TableError",
                                   "ringmatch.errors.UsageError"])

@@ -591,9 +591,8 @@ def test_deeply_nested_toml_is_a_clean_error():
 # Nothing is executed
 
 def test_no_dynamic_execution_in_the_file_readers():
-    for module in ("userfile.py", "userfile_container.py", "userfile_expand.py",
-                   "userfile_syntax.py"):
-        source = (ROOT / "presentations" / module).read_text()
+    for module in ("__init__.py", "container.py", "expand.py", "syntax.py"):
+        source = (ROOT / "presentations" / "userfile" / module).read_text()
         for forbidden in (r"\beval\(", r"\bexec\(", "sympify", r"(?<!re\.)compile\(",
                           "__import__", "importlib", "pickle", r"\bgetattr\(", "subprocess"):
             assert not re.search(forbidden, source), (module, forbidden)

@@ -2,7 +2,7 @@
 
 Reads the file (size-limited), parses TOML with the standard library, checks the keys and
 types of every table, and parses each string field with the expression grammar of
-`userfile_syntax`.  The result is a `FileSpec`: plain records, independent of any flag type.
+`syntax`.  The result is a `FileSpec`: plain records, independent of any flag type.
 
 TOML parsers do not report where a value came from, so `StringLocator` re-scans the file for
 its string literals (decoding escapes itself) and hands out, for each string value, the file
@@ -21,8 +21,8 @@ if sys.version_info >= (3, 11):
 else:                                              # pragma: no cover - older Pythons
     import tomli as tomllib
 
-from .flagtype import FlagType, FlagTypeError, parse_flag
-from .userfile_syntax import (Binding, LineIndex, Loc, Node, PresentationFileError, SourceText,
+from ..flagtype import FlagType, FlagTypeError, parse_flag
+from .syntax import (Binding, LineIndex, Loc, Node, PresentationFileError, SourceText,
                               Template, fail, parse_bindings, parse_expression, parse_meaning,
                               parse_relation, parse_single_binding, parse_template)
 
@@ -401,7 +401,7 @@ _RANGE = re.compile(r"\s*([+-]?[0-9]{1,40})\s*\.\.\s*([+-]?[0-9]{1,40})\s*")
 
 
 def _parameters(raw, locator: StringLocator) -> Tuple[ParameterDecl, ...]:
-    from .userfile_syntax import RESERVED
+    from .syntax import RESERVED
     at = locator.key("parameters")
     if isinstance(raw, dict):
         raw = [raw]

@@ -1,7 +1,7 @@
 """Presentations supplied by users as files (the format: docs/presentation-files.md).
 
-A file is read (`userfile_container`), parsed (`userfile_syntax`) and, for each flag type it
-is asked about, expanded (`userfile_expand`); the result is an ordinary `Family` record, so
+A file is read (`container`), parsed (`syntax`) and, for each flag type it
+is asked about, expanded (`expand`); the result is an ordinary `Family` record, so
 display, Gröbner bases, Bethe points and comparisons treat it like a built-in family.
 
 Public functions:
@@ -30,17 +30,17 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Dict, List, Mapping, Optional, Tuple
 
-from .flagtype import FlagType
-from .interface import Family, PresentationError, Relation, build_symbolic
-from .userfile_container import FileSpec, read_file, read_text
-from .userfile_expand import Expanded, expand, transport, unsupported_reason
-from .userfile_syntax import PresentationFileError, fail
+from ..flagtype import FlagType
+from ..interface import Family, PresentationError, Relation, build_symbolic
+from .container import FileSpec, read_file, read_text
+from .expand import Expanded, expand, transport, unsupported_reason
+from .syntax import PresentationFileError, fail
 
 __all__ = ["PresentationFileError", "ParameterValuesMissing", "load_family", "load_spec",
            "spec_of", "bind_values", "bound_name", "accepts", "family_from_text", "family_from_spec",
            "case_file_text", "shipped_files", "looks_like_path", "polynomial_text"]
 
-FILES_DIRECTORY = Path(__file__).resolve().parent / "files"
+FILES_DIRECTORY = Path(__file__).resolve().parent.parent / "files"
 
 
 def looks_like_path(name: str) -> bool:
@@ -89,7 +89,7 @@ def _spec_cached(label: str, real_path: str, mtime: int, size: int) -> FileSpec:
 
 def spec_of(name: str) -> Optional[FileSpec]:
     """The FileSpec behind a presentation name (a path or a shipped file), None otherwise."""
-    from . import presentation_file
+    from .. import presentation_file
     file = presentation_file(name)
     return None if file is None else load_spec(file)
 

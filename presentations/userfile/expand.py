@@ -21,11 +21,11 @@ from typing import Dict, Iterator, List, Optional, Set, Tuple, Union
 
 import flint
 
-from .flagtype import FlagType
-from .interface import Generator
-from .meanings import KIND_BY_SYNTAX, Meaning
-from .userfile_container import FileSpec, GeneratorDecl, RelationDecl, UnitDecl
-from .userfile_syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Extremum, Loc, Loop,
+from ..flagtype import FlagType
+from ..interface import Generator
+from ..meanings import KIND_BY_SYNTAX, Meaning
+from .container import FileSpec, GeneratorDecl, RelationDecl, UnitDecl
+from .syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Extremum, Loc, Loop,
                               Negate, Node, Num, Power, PresentationFileError, Symbol, Template,
                               Toda, fail)
 

@@ -3,7 +3,7 @@
 The expression language is written down in docs/presentation-files.md; this module is its
 recursive-descent parser.  Parsing only builds a tree of plain records; nothing in a file is
 ever handed to Python or to a computer-algebra parser, and evaluation happens in
-`userfile_expand` against a flag type.
+`expand` against a flag type.
 
 Every error is a `PresentationFileError` whose text is one line: ``file:line:col: message``.
 """
@@ -15,7 +15,7 @@ from typing import List, NoReturn, Optional, Sequence, Tuple, Union
 
 from ringmatch.errors import InputError
 
-from .meanings import KIND_BY_SYNTAX
+from ..meanings import KIND_BY_SYNTAX
 
 MAX_EXPRESSION_CHARS = 20_000
 MAX_TOKENS = 5_000
