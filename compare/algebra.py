@@ -197,29 +197,16 @@ def ypoly_divide_series(a: YPoly, b: YPoly, terms: int, zero) -> YPoly:
     return out
 
 
-def small_fraction(value: int, modulus: int, bound: int = 1 << 20) -> Tuple[int, int]:
-    """(numerator, denominator) with both below `bound` in size that is congruent to
-    `value` mod `modulus`, or (symmetric residue, 1) when there is none: coefficients that
-    are small rationals print as such, random ones as the residue they are."""
-    value %= modulus
-    r0, r1, s0, s1 = modulus, value, 0, 1
-    while r1 >= bound:
-        quotient = r0 // r1
-        r0, r1 = r1, r0 - quotient * r1
-        s0, s1 = s1, s0 - quotient * s1
-    if s1 != 0 and abs(s1) < bound:
-        numerator, denominator = (r1, s1) if s1 > 0 else (-r1, -s1)
-        return numerator, denominator
-    return (value if value <= modulus // 2 else value - modulus), 1
-
-
 def poly_text(poly, names: Sequence[str]) -> str:
-    """A polynomial over F_p in the presentation-file grammar (`*`, `^`, small rationals),
-    so that a printed witness can be pasted back into a file."""
+    """A polynomial over F_p in the presentation-file grammar (`*`, `^`, residues as the
+    small rationals they reduce from: reconstruct.small_residue), so that a printed witness
+    can be pasted back into a file."""
+    from .reconstruct import small_residue
     modulus = poly.context().modulus()
     pieces = []
     for exponents, coefficient in poly.terms():
-        numerator, denominator = small_fraction(int(coefficient), modulus)
+        fraction = small_residue(int(coefficient), modulus)
+        numerator, denominator = fraction.numerator, fraction.denominator
         factors = [name if e == 1 else f"{name}^{e}"
                    for name, e in zip(names, exponents) if e]
         magnitude = f"{abs(numerator)}" + (f"/{denominator}" if denominator != 1 else "")

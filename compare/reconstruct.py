@@ -53,6 +53,21 @@ def rational_number(residue: int, modulus: int, bound: Optional[int] = None) -> 
     return value
 
 
+def small_residue(value: int, modulus: int) -> Fraction:
+    """A residue mod p as the rational a/b it reduces from when |a|, b ≤ (p/2)^(1/4), else as
+    its representative in (−p/2, p/2] (a Fraction with denominator 1).
+
+    The bound is the square root of the one that makes rational reconstruction unique, so a
+    random residue passes only with probability about p^(−1/2) (2^−31 for the default
+    62-bit primes): what comes out as a small fraction almost surely is one, and a residue
+    that stands for nothing small stays an integer rather than a made-up fraction."""
+    value %= modulus
+    fraction = rational_number(value, modulus, isqrt(isqrt(modulus // 2)))
+    if fraction is not None:
+        return fraction
+    return Fraction(value - modulus if value > modulus // 2 else value)
+
+
 def chinese_remainder(residues: Sequence[int], moduli: Sequence[int]) -> Tuple[int, int]:
     """(x, M) with x ≡ residues[i] mod moduli[i], 0 ≤ x < M = ∏ moduli (pairwise coprime)."""
     x, M = 0, 1

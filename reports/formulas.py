@@ -13,7 +13,6 @@ from __future__ import annotations
 import math
 import re
 from functools import lru_cache
-from math import isqrt
 from typing import Dict, List, Optional, Sequence, Tuple
 
 import sympy
@@ -27,19 +26,10 @@ def _symbol(name: str) -> sympy.Symbol:
 
 
 def small_residue(value: int, modulus: int) -> sympy.Rational:
-    """A residue mod p as the rational a/b it reduces from when |a|, b ≤ (p/2)^(1/4), else as
-    its representative in (−p/2, p/2].
-
-    The bound is the square root of the one that makes rational reconstruction unique, so a
-    random residue passes only with probability about p^(−1/2) (2^−31 for the default
-    62-bit primes): what comes out as a small fraction almost surely is one, and a residue
-    that stands for nothing small stays an integer rather than a made-up fraction."""
-    from ringmatch.compare.reconstruct import rational_number
-    value %= modulus
-    fraction = rational_number(value, modulus, isqrt(isqrt(modulus // 2)))
-    if fraction is not None:
-        return sympy.Rational(fraction.numerator, fraction.denominator)
-    return sympy.Integer(value - modulus if value > modulus // 2 else value)
+    """compare.reconstruct.small_residue as a SymPy number."""
+    from ringmatch.compare.reconstruct import small_residue as as_fraction
+    fraction = as_fraction(value, modulus)
+    return sympy.Rational(fraction.numerator, fraction.denominator)
 
 
 def _coefficient(c, modulus: int, symmetric: bool) -> sympy.Rational:
