@@ -27,7 +27,6 @@ All randomness comes from one seed; the certificate records everything needed to
 """
 from __future__ import annotations
 
-import math
 import random
 import time
 from dataclasses import dataclass, field, fields, replace
@@ -51,7 +50,6 @@ LOCALISATION_SIZE_LIMIT = 3000
 DEFAULT_ORDER = 6
 MAX_WITNESSES = 3
 METHODS = ("auto", "groebner", "points", "both")
-VERDICTS = ("agree", "disagree", "consistent", "inconclusive")
 REFERENCE = "whitney"
 INFINITE = "infinite"
 PROBABILITY_BASIS = (
@@ -86,14 +84,13 @@ class PresentationReport:
     notes: List[str] = field(default_factory=list)
 
     def to_json(self) -> dict:
-        return {f.name: getattr(self, f.name) for f in fields(self)}
+        return _record_json(self)
 
     as_dict = to_json
 
     @classmethod
     def from_json(cls, data: dict) -> "PresentationReport":
-        known = {f.name for f in fields(cls)}
-        return cls(**{k: v for k, v in data.items() if k in known})
+        return _record_from_json(cls, data)
 
 
 @dataclass
@@ -108,14 +105,23 @@ class PairReport:
     order: Optional[int] = None  # the truncation order, when the points decided it
 
     def to_json(self) -> dict:
-        return {f.name: getattr(self, f.name) for f in fields(self)}
+        return _record_json(self)
 
     as_dict = to_json
 
     @classmethod
     def from_json(cls, data: dict) -> "PairReport":
-        known = {f.name for f in fields(cls)}
-        return cls(**{k: v for k, v in data.items() if k in known})
+        return _record_from_json(cls, data)
+
+
+def _record_json(record) -> dict:
+    return {f.name: getattr(record, f.name) for f in fields(record)}
+
+
+def _record_from_json(cls, data: dict):
+    """The record from its JSON form; keys of another schema version are left out."""
+    known = {f.name for f in fields(cls)}
+    return cls(**{k: v for k, v in data.items() if k in known})
 
 
 # ---------------------------------------------------------------------------------------
@@ -319,22 +325,26 @@ def same_ring(A: Ideal, B: Ideal) -> bool:
     return A.ring.ctx is B.ring.ctx
 
 
+def relations_outside(source: str, target: str, relations: Sequence, basis: list
+                      ) -> List[dict]:
+    """Up to MAX_WITNESSES relations of `source` whose normal form modulo `target`'s Gröbner
+    basis is not 0, each as a witness with that normal form."""
+    found = []
+    for relation in relations:
+        remainder = groebner.normal_form(relation.poly, basis)
+        if remainder != 0:
+            found.append({"relation_of": source, "not_in": target, "relation": relation.label,
+                          "normal_form": algebra.poly_text(remainder,
+                                                           remainder.context().names())})
+            if len(found) >= MAX_WITNESSES:
+                break
+    return found
+
+
 def witnesses_between(a: str, b: str, A: Ideal, B: Ideal) -> List[dict]:
     """Relations of one ideal that are not in the other, with their normal forms."""
-    names = A.ring.ctx.names()
-    found = []
-    for source, target, X, Y in ((a, b, A, B), (b, a, B, A)):
-        count = 0
-        for relation in X.relations:
-            remainder = groebner.normal_form(relation.poly, Y.basis)
-            if remainder != 0:
-                found.append({"relation_of": source, "not_in": target,
-                              "relation": relation.label,
-                              "normal_form": algebra.poly_text(remainder, names)})
-                count += 1
-                if count >= MAX_WITNESSES:
-                    break
-    return found
+    return relations_outside(a, b, A.relations, B.basis) + \
+        relations_outside(b, a, B.relations, A.basis)
 
 
 def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport:
@@ -389,6 +399,12 @@ def _colength_value(value: Optional[int]) -> Colength:
     return INFINITE if value is None else value
 
 
+def reference_status() -> "Status":
+    """The reference presents the quantum K ring by a theorem, not by a computation."""
+    return Status(True, True, "the q-Whitney relations present the quantum K ring "
+                  "(arXiv:2409.15575)")
+
+
 def is_reference_family(family: Family) -> bool:
     from ringmatch.presentations import FAMILIES
     return FAMILIES.get(REFERENCE) is family
@@ -397,8 +413,7 @@ def is_reference_family(family: Family) -> bool:
 def _is_unit_modulo(poly, ref: Reference, flag: FlagType) -> bool:
     """Whether the element is invertible in C/J: a constant times a monomial in the
     det S_i is (docs/mathematics.md §2.1); otherwise 1 ∈ J + (element) decides."""
-    dets = {transport.common_generator_names(flag).index(n)
-            for n in (f"S{i}_{flag.k(i)}" for i in range(1, flag.m + 1))}
+    dets = set(transport.det_S_indices(flag, ref.ring))
     terms = list(poly.terms())
     if len(terms) == 1 and all(e == 0 or k in dets for k, e in enumerate(terms[0][0])):
         return True
@@ -469,8 +484,7 @@ def exact_status(family: Family, flag: FlagType, spec: algebra.Specialisation,
         report.colength = ref.colength
         report.colength_method = ("Gröbner basis of the q-Whitney ideal in the λ_j(S_i) "
                                   "(each λ_j(Q_i) eliminated by its linear relation)")
-        return Status(True, True, "the q-Whitney relations present the quantum K ring "
-                      "(arXiv:2409.15575)")
+        return reference_status()
     presentation = build_specialised(family, flag, spec)
     moved = transport.move_cleared(presentation, ref.ring, spec)
     if moved is None:
@@ -478,16 +492,7 @@ def exact_status(family: Family, flag: FlagType, spec: algebra.Specialisation,
                             "λ-classes: no exact route")
         return Status(None, False, f"{name} cannot be moved into the λ-class ring")
     relations, units = moved
-    names = ref.ring.ctx.names()
-    witnesses = []
-    for relation in relations:
-        remainder = groebner.normal_form(relation.poly, ref.basis)
-        if remainder != 0:
-            witnesses.append({"relation_of": name, "not_in": REFERENCE,
-                              "relation": relation.label,
-                              "normal_form": algebra.poly_text(remainder, names)})
-            if len(witnesses) >= MAX_WITNESSES:
-                break
+    witnesses = relations_outside(name, REFERENCE, relations, ref.basis)
     report.holds = not witnesses
     report.holds_evidence = ("exact: every relation reduces to 0 modulo the q-Whitney ideal"
                              if report.holds else
@@ -563,7 +568,7 @@ def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Spe
     return {"order": order, "q_line": list(line.q_line), "points": len(lifted.points)}
 
 
-def points_status(report: PresentationReport, family: Family) -> Status:
+def points_status(report: PresentationReport) -> Status:
     if report.holds is False and report.failures:
         failure = report.failures[0]
         return Status(False, True, f"{report.name}: {failure.get('relation')} does not vanish "
@@ -661,11 +666,10 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
     timings["points"] = time.perf_counter() - started
     points_order = order if points_record is not None else None
 
-    status: Dict[str, Status] = {f.name: points_status(reports[f.name], f) for f in families}
+    status: Dict[str, Status] = {f.name: points_status(reports[f.name]) for f in families}
     for family in families:
         if is_reference_family(family):
-            status[family.name] = Status(True, True, "the q-Whitney relations present the "
-                                         "quantum K ring (arXiv:2409.15575)")
+            status[family.name] = reference_status()
 
     use_exact = method in ("groebner", "both") or (
         method == "auto" and flag.rank <= EXACT_RANK_LIMIT)
@@ -721,22 +725,24 @@ def exact_reports(families: Sequence[Family], flag: FlagType,
                         "this specialisation (an unlucky draw): no exact route; try another seed")
                 return
             vieta = get_family("vieta")
+            vieta_status = None
             # Every other family first, so that bethe can reuse vieta's status.
             for family in sorted(families, key=lambda f: f.solved_by_points):
                 report = reports[family.name]
-                if status[family.name].equal is False:
-                    continue      # refuted by the points: no Gröbner basis needed
+                if status[family.name].equal is False:     # refuted by the points:
+                    if family is vieta:                    # no Gröbner basis needed
+                        vieta_status = status[family.name]
+                    continue
                 if family.solved_by_points:
-                    if not (vieta.name in status and any(f is vieta for f in families)
-                            and status[vieta.name].exact):
+                    if vieta_status is None or not vieta_status.exact:
                         probe = PresentationReport(vieta.name, 0, 0, flag.rank,
                                                    separates=report.separates)
-                        status[vieta.name + " (for bethe)"] = exact_status(
-                            vieta, flag, residues, ref, probe)
-                    through = status.get(vieta.name + " (for bethe)") or status[vieta.name]
-                    status[family.name] = _through_vieta(through, report, flag)
+                        vieta_status = exact_status(vieta, flag, residues, ref, probe)
+                    status[family.name] = _through_vieta(vieta_status, report)
                     continue
                 status[family.name] = exact_status(family, flag, residues, ref, report)
+                if family is vieta:
+                    vieta_status = status[family.name]
                 classical_colength(family, flag, residues, report)
     except groebner.BudgetExceeded:
         for family in families:
@@ -759,7 +765,7 @@ def compare_own_ideals(fa: Family, fb: Family, flag: FlagType,
     return pair
 
 
-def _through_vieta(vieta: Status, report: PresentationReport, flag: FlagType) -> Status:
+def _through_vieta(vieta: Status, report: PresentationReport) -> Status:
     """`bethe` equals the quantum K ring exactly when `vieta` does (module notes)."""
     argument = ("by construction: with distinct roots in each level the Bethe equations say "
                 "that λ_y(S_i) divides N_i(y), i.e. the auxiliary-root (Vieta) form, so the "

@@ -63,15 +63,18 @@ def substitution(presentation: Presentation, C: algebra.Ring, spec: algebra.Spec
     there (some λ_j(S_i) is missing among its generators, or a generator has no
     representative).  Variables that are not generators (e.g. inverses) map to 0; they
     occur in no relation or unit."""
-    flag = presentation.flag
-    meanings = {g.meaning for g in presentation.generators}
-    needed = {Meaning("lambda_S", i, j) for i in range(1, flag.m + 1)
-              for j in range(1, flag.k(i) + 1)}
-    if not needed <= meanings:
+    if not has_every_lambda_S(presentation):
         return None
+    return _images(presentation, C, lambda meaning: representative(
+        meaning, presentation.flag, C, spec))
+
+
+def _images(presentation: Presentation, C: algebra.Ring, represent) -> Optional[list]:
+    """`represent(meaning)` of every generator, in the order of the presentation's ring
+    variables (0 for the variables that are not generators), or None when one has none."""
     images: Dict[str, object] = {}
     for g in presentation.generators:
-        image = representative(g.meaning, flag, C, spec)
+        image = represent(g.meaning)
         if image is None:
             return None
         images[g.name] = image
@@ -124,6 +127,12 @@ def _fraction_representative(meaning: Meaning, flag: FlagType, C2: algebra.Ring,
     return det(i) * inverse
 
 
+def det_S_indices(flag: FlagType, C: algebra.Ring) -> List[int]:
+    """Positions of det S_1, …, det S_m (the variables λ_{k_i}(S_i)) among C's variables."""
+    names = C.ctx.names()
+    return [names.index(lambda_S_name(i, flag.k(i))) for i in range(1, flag.m + 1)]
+
+
 def _clear_inverses(poly, C: algebra.Ring, flag: FlagType):
     """u·poly written without the inverse variables, for the least monomial u in the
     det S_i that clears them.  det S_i is a unit of the quantum K ring (docs/mathematics.md
@@ -135,7 +144,7 @@ def _clear_inverses(poly, C: algebra.Ring, flag: FlagType):
         return C.zero
     m = flag.m
     highest = [max(exponents[size + i] for exponents, _ in terms) for i in range(m)]
-    det_index = [C.ctx.names().index(lambda_S_name(i, flag.k(i))) for i in range(1, m + 1)]
+    det_index = det_S_indices(flag, C)
     cleared = {}
     for exponents, coefficient in terms:
         e = list(exponents[:size])
@@ -183,13 +192,10 @@ def move_cleared(presentation: Presentation, C: algebra.Ring, spec: algebra.Spec
     flag = presentation.flag
     names = tuple(_inverse_name(i) for i in range(1, flag.m + 1))
     C2 = common_ring(flag, spec, extra=names)
-    images: Dict[str, object] = {}
-    for g in presentation.generators:
-        image = _fraction_representative(g.meaning, flag, C2, spec)
-        if image is None:
-            return None
-        images[g.name] = image
-    values = [images.get(name, C2.zero) for name in presentation.ring.ctx.names()]
+    values = _images(presentation, C2, lambda meaning: _fraction_representative(
+        meaning, flag, C2, spec))
+    if values is None:
+        return None
 
     def move(poly):
         return _clear_inverses(poly.compose(*values, ctx=C2.ctx), C, flag)
