@@ -14,7 +14,7 @@ from ringmatch.errors import UsageError
 
 from . import parameters, store
 from .sweep import terminal_progress
-from .workers import Limits, available_cores
+from .workers import Limits
 
 DEFAULT_STORE = "ringmatch-scans.db"
 
@@ -22,7 +22,7 @@ DEFAULT_STORE = "ringmatch-scans.db"
 def add_arguments(parser, *, prime_argument, positive_int) -> None:
     from . import algebra
     from .scan import DEFAULT_MAX_GRID, parse_axis
-    from .sweep_command import _positive_float, add_case_selection
+    from .sweep_command import add_case_selection, add_run_options
     from ringmatch.reports.scan import TABLE_FORMATS
     parser.add_argument("presentation",
                         help="presentation file with [[parameters]] (a path or a shipped name, "
@@ -49,15 +49,7 @@ def add_arguments(parser, *, prime_argument, positive_int) -> None:
     parser.add_argument("--colengths", action="store_true",
                         help="compute colengths also where the Bethe points already refute a "
                              "point (a Gröbner basis each)")
-    parser.add_argument("--store", default=DEFAULT_STORE, metavar="FILE",
-                        help=f"SQLite results store (resumed when run again); default "
-                             f"./{DEFAULT_STORE}")
-    parser.add_argument("--workers", type=positive_int, default=available_cores(),
-                        help="checks computed at once; default the number of cores")
-    parser.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
-                        help="a check running longer is stored as inconclusive (limit)")
-    parser.add_argument("--case-memory", type=positive_int, metavar="MiB",
-                        help="memory a check may allocate; beyond it, inconclusive (limit)")
+    add_run_options(parser, positive_int, store=DEFAULT_STORE, unit="check")
     parser.add_argument("--seed", type=int, default=0,
                         help="scan seed; each case's seed derives from it (default 0)")
     parser.add_argument("--prime", type=prime_argument, default=algebra.DEFAULT_PRIME)

@@ -35,6 +35,19 @@ def add_case_selection(parser, positive_int) -> None:
                         help="explicit cases instead of --kind/--max-n, e.g. 'Gr(2,4);Fl(3)'")
 
 
+def add_run_options(parser, positive_int, *, store: str, unit: str) -> None:
+    """The store, the workers and the per-`unit` limits, shared by `sweep` and `scan`."""
+    parser.add_argument("--store", default=store, metavar="FILE",
+                        help=f"SQLite results store (resumed when run again); default "
+                             f"./{store}")
+    parser.add_argument("--workers", type=positive_int, default=available_cores(),
+                        help=f"{unit}s computed at once; default the number of cores")
+    parser.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
+                        help=f"a {unit} running longer is stored as inconclusive (limit)")
+    parser.add_argument("--case-memory", type=positive_int, metavar="MiB",
+                        help=f"memory a {unit} may allocate; beyond it, inconclusive (limit)")
+
+
 def add_arguments(parser, *, presentation_list, prime_argument, positive_int) -> None:
     from . import algebra, parameters
     parameters.add_argument(parser)
@@ -42,15 +55,7 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
     parser.add_argument("--presentations", type=presentation_list,
                         default=["whitney", "vieta"],
                         help="comma-separated names or files; default whitney,vieta")
-    parser.add_argument("--store", default=DEFAULT_STORE, metavar="FILE",
-                        help=f"SQLite results store (resumed when run again); default "
-                             f"./{DEFAULT_STORE}")
-    parser.add_argument("--workers", type=positive_int, default=available_cores(),
-                        help="cases computed at once; default the number of cores")
-    parser.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
-                        help="a case running longer is stored as inconclusive (limit)")
-    parser.add_argument("--case-memory", type=positive_int, metavar="MiB",
-                        help="memory a case may allocate; beyond it, inconclusive (limit)")
+    add_run_options(parser, positive_int, store=DEFAULT_STORE, unit="case")
     parser.add_argument("--cluster", metavar="ADDRESS", type=cluster_address,
                         help="run the cases on a Dask distributed cluster, e.g. "
                              "tcp://127.0.0.1:8786 (the store stays here)")
