@@ -38,12 +38,9 @@ def run_limited(work: Callable[[], dict], *, seconds: Optional[float] = None,
     child.start()
     writer.close()
     try:
-        remaining = None if seconds is None else seconds
-        ready = wait_for([reader, child.sentinel], remaining)
-        if not ready:
-            child.kill()
-            child.join()
-            return Stopped(f"limit: took longer than --case-timeout {seconds:g} s")
+        stopped = _wait(reader, child, started, seconds, memory_mib)
+        if stopped is not None:
+            return stopped
         message = None
         try:
             if reader.poll():
@@ -52,7 +49,7 @@ def run_limited(work: Callable[[], dict], *, seconds: Optional[float] = None,
             message = None
         child.join()
     finally:
-        if child.is_alive():      # interrupted: leave no child behind
+        if child.is_alive():      # interrupted or stopped: leave no child behind
             child.kill()
             child.join()
         reader.close()
@@ -72,6 +69,25 @@ def run_limited(work: Callable[[], dict], *, seconds: Optional[float] = None,
     if kind == "user":
         raise payload
     raise RuntimeError(f"the computation failed: {payload}")
+
+
+def _wait(reader, child, started: float, seconds, memory_mib) -> Optional[Stopped]:
+    """Wait for the child's answer or its end; a Stopped when a limit ends it first (the
+    caller kills it).  The memory watch is the sweep's (compare/workers.py, CeilingWatch)."""
+    from .workers import WATCH_INTERVAL, CeilingWatch, ceiling_reason
+    watch = CeilingWatch(child.pid) if memory_mib else None
+    deadline = None if seconds is None else started + seconds
+    while True:
+        now = time.monotonic()
+        waits = ([max(0.0, deadline - now)] if deadline is not None else []) + \
+            ([WATCH_INTERVAL] if watch is not None else [])
+        if wait_for([reader, child.sentinel], min(waits) if waits else None):
+            return None
+        now = time.monotonic()
+        if deadline is not None and now >= deadline:
+            return Stopped(f"limit: took longer than --case-timeout {seconds:g} s")
+        if watch is not None and watch.stuck(now):
+            return Stopped(ceiling_reason(memory_mib, watch))
 
 
 def _child(writer, work, memory_mib) -> None:

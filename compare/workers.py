@@ -75,6 +75,55 @@ def set_memory_limit(memory_mib: int) -> None:
     resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
 
 
+# A worker that runs out of address space usually gets a MemoryError or, inside FLINT, aborts.
+# But CPython 3.11 can also spin for ever: when the exception it is unwinding needs one more
+# small object and that allocation fails, it retries the same handler without end, using
+# CPU and never returning.  So the parent also watches: a worker that stays within
+# CEILING_MARGIN of its limit for CEILING_SECONDS is out of memory, and is stopped as such.
+CEILING_SECONDS = 10.0
+CEILING_MARGIN = 2 * 1024 * 1024
+WATCH_INTERVAL = 0.5
+
+
+def address_space(pid: int) -> Optional[Tuple[int, int]]:
+    """(size of the address space, its limit) of a live process, in bytes; None where
+    /proc does not say, or while the process has no limit yet."""
+    try:
+        with open(f"/proc/{pid}/statm") as handle:
+            size = int(handle.read().split()[0]) * os.sysconf("SC_PAGE_SIZE")
+        with open(f"/proc/{pid}/limits") as handle:
+            line = next(line for line in handle if line.startswith("Max address space"))
+        limit = line.split()[3]
+    except (OSError, ValueError, IndexError, StopIteration):
+        return None
+    return None if limit == "unlimited" else (size, int(limit))
+
+
+@dataclass
+class CeilingWatch:
+    """Whether a process has sat at its address-space limit for `seconds` (see above)."""
+    pid: int
+    seconds: Optional[float] = None     # None: CEILING_SECONDS
+    since: Optional[float] = None
+
+    def patience(self) -> float:
+        return CEILING_SECONDS if self.seconds is None else self.seconds
+
+    def stuck(self, now: float) -> bool:
+        usage = address_space(self.pid)
+        if usage is None or usage[0] < usage[1] - CEILING_MARGIN:
+            self.since = None
+            return False
+        if self.since is None:
+            self.since = now
+        return now - self.since >= self.patience()
+
+
+def ceiling_reason(memory_mib: Optional[int], watch: CeilingWatch) -> str:
+    return (f"limit: out of memory under --case-memory {memory_mib} MiB (stopped after "
+            f"{watch.patience():g} s at its address-space limit)")
+
+
 def _silence_output(output: Optional[str] = None) -> None:
     # The sweep's stdout carries its report (e.g. --json); a worker must not write into it.
     # FLINT prints its allocation failures to stdout before aborting, so redirect the file
@@ -197,6 +246,7 @@ class Running:
     started: float
     deadline: Optional[float]
     output: Optional[str] = None       # file of the worker's stdout and stderr
+    watch: Optional[CeilingWatch] = None
 
 
 def _output_file() -> Optional[str]:
@@ -235,7 +285,27 @@ def start_case(context, index: int, task: CaseTask, limits: Limits) -> Running:
     process.start()
     writer.close()
     deadline = started + limits.seconds if limits.seconds else None
-    return Running(index, task, process, reader, started, deadline, output)
+    watch = CeilingWatch(process.pid) if limits.memory_mib else None
+    return Running(index, task, process, reader, started, deadline, output, watch)
+
+
+def next_wakeup(jobs, now: float) -> Optional[float]:
+    """How long the sweep may wait for the running jobs: until the first deadline, and no
+    longer than WATCH_INTERVAL while a memory limit is watched (None: no limit to watch)."""
+    waits = [max(0.0, job.deadline - now) for job in jobs if job.deadline is not None]
+    if any(job.watch is not None for job in jobs):
+        waits.append(WATCH_INTERVAL)
+    return min(waits) if waits else None
+
+
+def stopped_by_limit(job: Running, limits: Limits, now: float) -> Optional[Tuple[dict, float]]:
+    """The result of a job that a limit ends now (it is killed), or None to let it run."""
+    if job.deadline is not None and now >= job.deadline:
+        return timeout_result(job.task, limits), kill_case(job)
+    if job.watch is not None and job.watch.stuck(now):
+        seconds = kill_case(job)
+        return undecided_result(job.task, ceiling_reason(limits.memory_mib, job.watch),
+                                limits), seconds
 
 
 def finish_case(running: Running, limits: Limits) -> Tuple[dict, float]:
@@ -311,8 +381,7 @@ def run_local(tasks: Sequence[Tuple[int, CaseTask]], limits: Limits, workers: in
             while pending and len(running) < workers:
                 index, task = pending.popleft()
                 running[index] = start_case(context, index, task, limits)
-            deadlines = [r.deadline for r in running.values() if r.deadline is not None]
-            timeout = max(0.0, min(deadlines) - time.monotonic()) if deadlines else None
+            timeout = next_wakeup(running.values(), time.monotonic())
             handles = [r.reader for r in running.values()] + \
                 [r.process.sentinel for r in running.values()]
             ready = set(wait_for(handles, timeout))
@@ -320,11 +389,11 @@ def run_local(tasks: Sequence[Tuple[int, CaseTask]], limits: Limits, workers: in
             for index, job in sorted(running.items()):
                 if job.reader in ready or job.process.sentinel in ready:
                     result, seconds = finish_case(job, limits)
-                elif job.deadline is not None and now >= job.deadline:
-                    seconds = kill_case(job)
-                    result = timeout_result(job.task, limits)
                 else:
-                    continue
+                    stopped = stopped_by_limit(job, limits, now)
+                    if stopped is None:
+                        continue
+                    result, seconds = stopped
                 del running[index]
                 new_cutoff = finished(index, result, seconds)
                 if new_cutoff is not None:
@@ -360,11 +429,12 @@ def run_isolated(task: CaseTask, limits: Limits) -> Tuple[dict, float]:
     context = multiprocessing.get_context("forkserver")
     context.set_forkserver_preload(["ringmatch.compare.workers", *PRELOAD])
     job = start_case(context, 0, task, limits)
-    remaining = None if job.deadline is None else max(0.0, job.deadline - time.monotonic())
-    if wait_for([job.reader, job.process.sentinel], remaining):
-        return finish_case(job, limits)
-    seconds = kill_case(job)
-    return timeout_result(task, limits), seconds
+    while True:
+        if wait_for([job.reader, job.process.sentinel], next_wakeup([job], time.monotonic())):
+            return finish_case(job, limits)
+        stopped = stopped_by_limit(job, limits, time.monotonic())
+        if stopped is not None:
+            return stopped
 
 
 def run_dask(address: str, tasks: Sequence[Tuple[int, CaseTask]], limits: Limits,

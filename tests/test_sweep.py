@@ -158,6 +158,42 @@ def test_a_case_over_the_memory_limit_is_inconclusive(tmp_path):
     assert results["P1"]["verdict"] == "agree"          # the sweep went on around it
 
 
+def _fill_memory_then_spin() -> dict:
+    """What CPython 3.11 can do when it runs out of memory while unwinding an exception:
+    take the whole allowance, then loop for ever without allocating or returning."""
+    hoard = []
+    try:
+        while True:
+            hoard.append(bytearray(256 * 1024))
+    except MemoryError:
+        pass
+    while True:
+        pass
+
+
+def test_a_worker_spinning_at_its_memory_limit_is_stopped_as_out_of_memory(monkeypatch):
+    # the hang this guards against was seen in a sweep under --case-memory 1 (CPython
+    # retrying a failed allocation inside its exception unwinding, forever)
+    monkeypatch.setattr(workers, "CEILING_SECONDS", 1.0)
+    from ringmatch.compare.limited import Stopped, run_limited
+    started = time.monotonic()
+    stopped = run_limited(_fill_memory_then_spin, memory_mib=32)
+    assert isinstance(stopped, Stopped)
+    assert stopped.reason == ("limit: out of memory under --case-memory 32 MiB "
+                              "(stopped after 1 s at its address-space limit)")
+    assert time.monotonic() - started < 30
+
+
+def test_a_worker_well_below_its_memory_limit_is_not_stopped(monkeypatch):
+    monkeypatch.setattr(workers, "CEILING_SECONDS", 0.3)
+    from ringmatch.compare.limited import run_limited
+
+    def idle() -> dict:
+        time.sleep(1.5)     # longer than the patience, far from the limit
+        return {"done": True}
+    assert run_limited(idle, memory_mib=256) == {"done": True}
+
+
 def stored_rows(path) -> dict:
     conn = sqlite3.connect(path, timeout=30)
     try:
