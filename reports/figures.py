@@ -12,9 +12,11 @@ Layouts:
 * "auto" — "list" up to LIST_MAX_CASES cases, else "grassmannian" when every case is one,
   else "steps".
 
-In every layout all markers have one size (size encodes nothing), counterexamples
-(`disagree`) are named beside their markers, the axes have integer ticks, and a note under
-the plot states which presentations, which sizes (n, rank) and how many cases it shows.
+In every layout all markers have one size (size encodes nothing), the axes have integer
+ticks, and a note under the plot states which presentations, which sizes (n, rank) and how
+many cases it shows.  Counterexamples (`disagree`) are named beside their markers — in the
+grids the first NAMED_COUNTEREXAMPLES of them, each only where its name covers no other
+name and no marker; the note counts the ones left unnamed.
 
 The palette is ours: dark blue / yellow / orange / light grey differ in hue *and* lightness,
 so they stay distinct under the common colour-vision deficiencies and in greyscale, and each
@@ -165,6 +167,70 @@ def figure_note(records: Sequence[dict], shown: Sequence[Marker]) -> str:
     return "\n".join(lines)
 
 
+NOTE_WIDTH = 76     # characters of the 5.5 pt note on a column's width
+
+
+def wrap_note(note: str) -> str:
+    import textwrap
+    return "\n".join(part for line in note.splitlines()
+                     for part in (textwrap.wrap(line, NOTE_WIDTH, subsequent_indent="  ")
+                                  or [""]))
+
+
+Box = Tuple[float, float, float, float]      # x0, y0, x1, y1 in display units
+
+# Where a name may go, in points from its marker: above right first, then the other corners
+# and the sides.
+LABEL_SPOTS = ((3, 3, "left", "bottom"), (3, -3, "left", "top"),
+               (-3, 3, "right", "bottom"), (-3, -3, "right", "top"),
+               (5, 0, "left", "center"), (-5, 0, "right", "center"))
+
+
+def overlaps(a: Box, b: Box) -> bool:
+    return a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]
+
+
+def inside(a: Box, bounds: Box) -> bool:
+    return bounds[0] <= a[0] and a[2] <= bounds[2] and bounds[1] <= a[1] and a[3] <= bounds[3]
+
+
+def first_free(candidates: Sequence[Box], taken: Sequence[Box], bounds: Box) -> Optional[int]:
+    """The first candidate box inside `bounds` that overlaps none of `taken`."""
+    for index, box in enumerate(candidates):
+        if inside(box, bounds) and not any(overlaps(box, other) for other in taken):
+            return index
+    return None
+
+
+def name_markers(fig, ax, chosen: Sequence[Marker], markers: Sequence[Marker]) -> List[str]:
+    """Write the case name beside each chosen marker (up to NAMED_COUNTEREXAMPLES) where it
+    covers no other name and no marker and stays inside the plot; the names written."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    renderer = FigureCanvasAgg(fig).get_renderer()
+    taken: List[Box] = []
+    for m in markers:
+        x, y = ax.transData.transform((m.x, m.y))
+        radius = math.sqrt(m.size) / 2 * fig.dpi / 72     # scatter sizes are points^2
+        taken.append((x - radius, y - radius, x + radius, y + radius))
+    bounds = tuple(ax.get_window_extent(renderer).extents)
+    named = []
+    for m in chosen[:NAMED_COUNTEREXAMPLES]:
+        labels, boxes = [], []
+        for dx, dy, ha, va in LABEL_SPOTS:
+            label = ax.annotate(m.case, (m.x, m.y), xytext=(dx, dy), textcoords="offset points",
+                                fontsize=5.5, fontweight="bold", ha=ha, va=va, zorder=4)
+            labels.append(label)
+            boxes.append(tuple(label.get_window_extent(renderer).extents))
+        spot = first_free(boxes, taken, bounds)
+        for index, label in enumerate(labels):
+            if index != spot:
+                label.remove()
+        if spot is not None:
+            taken.append(boxes[spot])
+            named.append(m.case)
+    return named
+
+
 def agreement_map(source: Source, out, *, layout: str = "auto", command: Optional[str] = None,
                   width: float = COLUMN_WIDTH_INCHES, dpi: int = 300,
                   sweep: Optional[str] = None, presentations: Optional[Sequence[str]] = None,
@@ -193,7 +259,13 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
     from matplotlib.ticker import MaxNLocator
 
     note = figure_note(records, markers)
-    note_lines = note.count("\n") + 1
+    if layout == "steps":
+        note += ("\nin a cell, the cases of that n and m by dimension vector, left to right, "
+                 "top to bottom")
+    note = wrap_note(note)
+    # one line more where some counterexamples may find no room for their names
+    unnamed_line = layout != "list" and any(m.verdict == "disagree" for m in markers)
+    note_lines = note.count("\n") + 1 + unnamed_line
     xs = sorted({round(m.x) for m in markers})
     ys = sorted({round(m.y) for m in markers})
     rows_tall = ys[-1] - ys[0] + 1
@@ -228,18 +300,6 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
             ax.spines["right"].set_visible(False)
             ax.spines["top"].set_visible(False)
         else:
-            counterexamples = [m for m in markers if m.verdict == "disagree"]
-            for m in counterexamples[:NAMED_COUNTEREXAMPLES]:
-                ax.annotate(m.case, (m.x, m.y), xytext=(3, 3), textcoords="offset points",
-                            fontsize=5.5, fontweight="bold", zorder=4)
-            if layout == "steps":
-                note += ("\nin a cell, the cases of that n and m by dimension vector, "
-                         "left to right, top to bottom")
-                note_lines += 1
-            if len(counterexamples) > NAMED_COUNTEREXAMPLES:
-                note += (f"\n{len(counterexamples) - NAMED_COUNTEREXAMPLES} more disagree "
-                         "cases are not named; see the table")
-                note_lines += 1
             ax.set_xlim(xs[0] - 0.6, xs[-1] + 0.6)
             ax.set_ylim(ys[0] - 0.6, ys[-1] + 0.6)
             ax.yaxis.set_major_locator(MaxNLocator(integer=True))
@@ -260,8 +320,14 @@ def agreement_map(source: Source, out, *, layout: str = "auto", command: Optiona
         ax.legend(handles=handles, fontsize=6.5, frameon=False, loc="lower center",
                   bbox_to_anchor=(0.5, 1.0), ncol=len(handles) if len(handles) <= 3 else 2,
                   handletextpad=0.2, columnspacing=0.8, borderaxespad=0.2)
-        fig.text(0.01, 0.01, note, fontsize=5.5, ha="left", va="bottom", color="#333333")
         fig.tight_layout(pad=0.3, rect=(0, (0.1 * note_lines + 0.08) / height, 1, 1))
+        if layout != "list":
+            counterexamples = [m for m in markers if m.verdict == "disagree"]
+            named = name_markers(fig, ax, counterexamples, markers)
+            if len(named) < len(counterexamples):
+                note += (f"\n{len(counterexamples) - len(named)} more disagree cases are not "
+                         "named; see the table")
+        fig.text(0.01, 0.01, note, fontsize=5.5, ha="left", va="bottom", color="#333333")
 
     block = prov.provenance(rows, command)
     lines = prov.provenance_lines(block)

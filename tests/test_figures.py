@@ -134,6 +134,49 @@ def test_grid_layouts_name_the_counterexamples(rows, tmp_path):
     assert "<!-- P1 -->" not in svg          # agreeing cases stay unnamed in a grid
 
 
+def test_first_free_spot_avoids_what_is_taken_and_stays_inside():
+    from ringmatch.reports.figures import first_free, overlaps
+    bounds = (0, 0, 100, 100)
+    taken = [(10, 10, 30, 20)]
+    candidates = [(20, 15, 40, 25), (90, 0, 110, 10), (40, 40, 60, 50)]
+    assert overlaps(candidates[0], taken[0]) and not overlaps(candidates[2], taken[0])
+    assert first_free(candidates, taken, bounds) == 2     # the second leaves the plot
+    assert first_free(candidates[:2], taken, bounds) is None
+    assert not overlaps((0, 0, 10, 10), (10, 0, 20, 10))  # touching is not covering
+
+
+def test_crowded_counterexamples_get_names_that_cover_nothing():
+    """Many disagreeing cases packed in few cells: every name written covers no other name
+    and no marker, and stays inside the plot (the rest are counted in the note)."""
+    import matplotlib
+    matplotlib.use("Agg", force=True)
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+    from ringmatch.reports.figures import name_markers, overlaps
+    records = [{"case": f"Fl({','.join(map(str, dims))};6)", "verdict": "disagree", "n": 6,
+                "m": len(dims), "dims": dims, "kind": "partial"}
+               for dims in [(1, 2), (1, 3), (1, 4), (2, 3), (2, 4), (3, 4), (1, 5), (2, 5),
+                            (3, 5), (4, 5), (1, 2, 3), (1, 2, 4), (1, 3, 4), (2, 3, 4)]]
+    markers = marker_positions(records, "steps")
+    fig = Figure(figsize=(3.3, 2.5), dpi=100)
+    ax = fig.add_subplot(1, 1, 1)
+    ax.set_xlim(5.4, 6.6)
+    ax.set_ylim(1.4, 3.6)
+    named = name_markers(fig, ax, markers, markers)
+    assert 0 < len(named) < len(markers)
+    renderer = FigureCanvasAgg(fig).get_renderer()
+    boxes = [tuple(text.get_window_extent(renderer).extents) for text in ax.texts]
+    assert len(boxes) == len(named)
+    frame = tuple(ax.get_window_extent(renderer).extents)
+    for i, box in enumerate(boxes):
+        assert frame[0] <= box[0] and box[2] <= frame[2] and frame[1] <= box[1] \
+            and box[3] <= frame[3]
+        assert not any(overlaps(box, other) for other in boxes[i + 1:])
+        for m in markers:
+            x, y = ax.transData.transform((m.x, m.y))
+            assert not (box[0] < x < box[2] and box[1] < y < box[3]), m.case
+
+
 def test_consistent_is_its_own_verdict_never_agreement(rows, tmp_path):
     """`consistent` (relations vanish at the Bethe points to order s^N, not proven) has its
     own colour, marker and legend entry, and is not counted with `agree`."""
