@@ -152,7 +152,9 @@ def child_main(writer, task: CaseTask, memory_mib: Optional[int],
     _silence_output(output)
     import faulthandler
     if faulthandler.is_enabled():    # into the output file too, not into the sweep's stderr
-        faulthandler.enable(file=sys.stderr)
+        # by descriptor: sys.stderr may be an object without one (a notebook's, or a
+        # redirection in the calling program), and enabling on it would end the worker
+        faulthandler.enable(file=2)
     if memory_mib:
         set_memory_limit(memory_mib)
     try:
@@ -215,8 +217,10 @@ def outcome_result(task: CaseTask, limits: Limits, message, exitcode,
 
 def _crash_line(output: str) -> str:
     """What FLINT or Python said about a crash, if anything (not a stack dump)."""
-    lines = [line.strip() for line in output.splitlines()]
+    lines = [line.strip() for line in output.splitlines() if line.strip()]
     said = [line for line in lines if line.startswith("Fatal Python error") or "FLINT" in line]
+    if not said and any(line.startswith("Traceback") for line in lines):
+        said = lines[-1:]          # the exception that ended it
     return said[-1][:200] if said else ""
 
 

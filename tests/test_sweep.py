@@ -19,6 +19,7 @@ from ringmatch.reports import sweeps as sweep_text
 from ringmatch.presentations.flagtype import parse_flag
 
 from conftest import run_cli as ringmatch
+from conftest import run_in_process
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -156,6 +157,24 @@ def test_a_case_over_the_memory_limit_is_inconclusive(tmp_path):
     assert results["Fl(6)"]["verdict"] == "inconclusive"
     assert results["Fl(6)"]["reason"].startswith("limit: out of memory under --case-memory 1 MiB")
     assert results["P1"]["verdict"] == "agree"          # the sweep went on around it
+
+
+def test_a_sweep_called_from_python_with_stderr_redirected(tmp_path):
+    """As in a notebook or a program that captures output: sys.stderr has no file descriptor
+    (and pytest has faulthandler on).  Workers used to die re-enabling faulthandler on it."""
+    import faulthandler
+    assert faulthandler.is_enabled()      # pytest's, as a notebook may have it
+    finished = run_in_process("sweep", "--cases", "P1;Gr(2,4)", "--presentations",
+                              "whitney,vieta", "--store", tmp_path / "s.db", "--json")
+    cases = json.loads(finished.stdout)["cases"]
+    assert [(c["case"], c["verdict"]) for c in cases] == [("P1", "agree"), ("Gr(2;4)", "agree")], \
+        [c["reason"] for c in cases]
+
+
+def test_a_crashed_worker_says_which_exception_ended_it():
+    said = workers._crash_line("Traceback (most recent call last):\n  File \"x\", line 1\n"
+                               "io.UnsupportedOperation: fileno\n")
+    assert said == "io.UnsupportedOperation: fileno"
 
 
 def _fill_memory_then_spin() -> dict:
