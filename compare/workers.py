@@ -3,7 +3,8 @@ a case that ended without a comparison is stored as (compare/sweep.py plans and 
 
 Each case runs in a process of its own that the sweep can kill: past `--case-timeout`
 seconds, or when it runs out of the `--case-memory` allowance (an address-space limit set
-inside the process), the case is stored as inconclusive with a reason that starts "limit:",
+inside the process; a worker that sits at that limit for CEILING_SECONDS is stopped too, see
+CeilingWatch), the case is stored as inconclusive with a reason that starts "limit:",
 and the sweep goes on.  A fresh process per case also keeps one case's caches and memory from
 slowing the next.  A worker that dies without a result is stored as "crashed: …" (the signal
 or exit status, and what FLINT or Python last said), an exception in it as "error: …".  With
