@@ -425,7 +425,9 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
         if not nonzero_top and agrees else
         (f"a coefficient of total q-degree {bound + 1} is nonzero, first at "
          f"{first}" if nonzero_top else "the value at the extra q disagrees with the "
-                                        "interpolation"),
+         "interpolation, first at " + _first_entry_difference(
+             predicted, evaluations[len(points)].constants, basis.labels, prime,
+             ("interpolated", "computed"))),
         "N is a polynomial in q: Buch-Mihalcea, Duke Math. J. 156 (2011) (Grassmannians); "
         "Anderson-Chen-Tseng, arXiv:1804.04579, and Kato (flag varieties) -- recalled from "
         "memory"))
@@ -436,7 +438,9 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
                              "N(0) from the interpolation equals the products computed in the "
                              "classical ring (q = 0)" if classical_agrees else
                              "N(0) from the interpolation differs from the products in the "
-                             "classical ring (q = 0)",
+                             "classical ring (q = 0), first at " + _first_entry_difference(
+                                 coefficients[monomials[0]], at_zero, basis.labels, prime,
+                                 ("interpolated", "classical ring")),
                              "QK(X) at q = 0 is K(X)"))
     else:
         at_zero = coefficients[monomials[0]]
@@ -527,6 +531,20 @@ def _first_triple(coefficients, monomials, labels) -> str:
                 lam, mu = divmod(column, r)
                 return (f"N_{{{sb.label_text(labels[lam])},{sb.label_text(labels[mu])}}}"
                         f"^{sb.label_text(labels[nu])}, q-monomial {mono}")
+    return "?"
+
+
+def _first_entry_difference(first, second, labels, prime, names: Tuple[str, str]) -> str:
+    """The first N_{λμ}^ν (in the order of the r × r² matrices) where two matrices of
+    constants mod p differ, with both values lifted to the symmetric range."""
+    r = len(labels)
+    for index, (a, b) in enumerate(zip(first.entries(), second.entries())):
+        if int(a) != int(b):
+            nu, column = divmod(index, r * r)
+            lam, mu = divmod(column, r)
+            return (f"N_{{{sb.label_text(labels[lam])},{sb.label_text(labels[mu])}}}"
+                    f"^{sb.label_text(labels[nu])}: {signed(int(a), prime)} ({names[0]}), "
+                    f"{signed(int(b), prime)} ({names[1]}), mod p")
     return "?"
 
 
@@ -637,9 +655,13 @@ def _given_classical(basis: Basis, classical) -> dict:
 
 
 def _sum_rule(flag, labels, constants) -> dict:
+    # Both abstracts state it (checked against the arXiv abstracts): "the sum of the structure
+    # constants of any product of Schubert classes is equal to 1" (G/P), resp. "... equal to
+    # one" (cominuscule G/P, Grassmannians among them).
     source = ("Buch-Chung-Li-Mihalcea, Euler characteristics in the quantum K-theory of flag "
-              "varieties, Selecta Math. 2020 (arXiv:1903.02215); Grassmannians: "
-              "Buch-Chung, arXiv:1701.06240")
+              "varieties, arXiv:1903.02215 (Selecta Math. 2020, recalled from memory); "
+              "Grassmannians: Buch-Chung, Euler characteristics of cominuscule quantum "
+              "K-theory, arXiv:1701.06240")
     for i, lam in enumerate(labels):
         for mu in labels[i:]:
             total = sum(_value(constants, (lam, mu, nu), 1) for nu in labels)
@@ -651,6 +673,8 @@ def _sum_rule(flag, labels, constants) -> dict:
 
 def _projective(flag, labels, constants) -> dict:
     n = flag.n
+    # Not confirmed against the paper's text (no copy of it was at hand when this was
+    # audited); the quantum cohomology limit σ_a σ_b = q σ_{a+b-n} and the sum rule agree.
     source = ("Buch-Mihalcea, Quantum K-theory of Grassmannians, Duke Math. J. 156 (2011) "
               "(recalled from memory; consistent with (1 - O(-1))^n = q)")
     column = flag.k(1) == n - 1     # Gr(n−1;n): the labels are the columns (1^a)
@@ -673,17 +697,23 @@ def _projective(flag, labels, constants) -> dict:
 
 
 def _poly_text(poly: Dict[QMonomial, int]) -> str:
-    if not poly:
-        return "0"
-    return " + ".join(f"{c}*q^{list(mono)}" for mono, c in sorted(poly.items()))
+    """2 - 2*q, q1*q2^2, … (ascending degree; the notation of `ringmatch schubert`'s table)."""
+    out = ""
+    for mono, c in sorted(poly.items(), key=lambda item: (sum(item[0]), item[0])):
+        names = [("q" if len(mono) == 1 else f"q{i}") + (f"^{e}" if e > 1 else "")
+                 for i, e in enumerate(mono, start=1) if e]
+        body = "*".join(([str(abs(c))] if abs(c) != 1 or not names else []) + names)
+        out += (("-" if c < 0 else "") if not out else (" - " if c < 0 else " + ")) + body
+    return out or "0"
 
 
 # ---------------------------------------------------------------------------------------
 # Comparing tables
 
 def first_difference(a: SchubertResult, b: SchubertResult) -> Optional[dict]:
-    """The first product (in label order) whose constants differ, or None."""
-    if list(a.basis.labels) != list(b.basis.labels):
+    """The first product (in the label order of `a`) whose constants differ, or None.  The
+    two bases need the same labels, not in the same order (a file lists them as it likes)."""
+    if sorted(a.basis.labels) != sorted(b.basis.labels):
         return {"reason": "the bases have different labels"}
     labels = a.basis.labels
     for lam in labels:
@@ -765,7 +795,7 @@ def same_classes(flag: FlagType, first: Tuple[Family, Basis], second: Tuple[Fami
     be moved (e.g. the Chern roots of `bethe` have no λ-class representative)."""
     from . import engine, transport
     from ringmatch.presentations.interface import Generator, build_specialised
-    if list(first[1].labels) != list(second[1].labels):
+    if sorted(first[1].labels) != sorted(second[1].labels):
         return {"same": False, "reason": "the bases have different labels"}
     rng = random.Random(seed)
     spec = algebra.Specialisation(prime, tuple([1] * flag.n),
@@ -801,7 +831,8 @@ def same_classes(flag: FlagType, first: Tuple[Family, Basis], second: Tuple[Fami
         polys = _polynomials(presentation.ring, basis)
         vectors.append(quotient.vectors([p.compose(*images, ctx=common.ring.ctx)
                                          for p in polys]))
-    for label, a, b in zip(first[1].labels, *vectors):
-        if a != b:
+    theirs = dict(zip(second[1].labels, vectors[1]))
+    for label, a in zip(first[1].labels, vectors[0]):
+        if a != theirs[label]:
             return {"same": False, "label": list(label)}
     return {"same": True}

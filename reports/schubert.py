@@ -7,6 +7,7 @@ true|false}), `check_details` (detail and source of each), `certificate` and `no
 """
 from __future__ import annotations
 
+import re
 from typing import Dict, List, Optional, Sequence, Tuple
 
 from ringmatch.presentations.schubert_bases import label_text
@@ -151,6 +152,10 @@ def as_latex(result) -> str:
 
 
 def _latex_case(case: str) -> str:
+    """Gr(2;4) → \\mathrm{Gr}(2;4), P3 → \\mathbb{P}^{3}."""
+    projective = re.fullmatch(r"P(\d+)", case)
+    if projective:
+        return f"\\mathbb{{P}}^{{{projective.group(1)}}}"
     return case.replace("Gr", "\\mathrm{Gr}").replace("Fl", "\\mathrm{Fl}")
 
 

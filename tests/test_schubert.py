@@ -93,6 +93,21 @@ def test_only_one_substitution_passes_for_small_grassmannians():
         assert passing == expected, (case, passing)
 
 
+def test_the_classical_check_alone_does_not_decide():
+    # At q = 0 six candidates (three distinct bases: S:1-x = Sdual:1-1/x, S:1-1/x =
+    # Sdual:1-x, and the two Q ones) have the K-theoretic Littlewood-Richardson coefficients
+    # of Buch, Acta Math. 189 (2002) as products; the quantum checks keep only the first pair.
+    # What the tool finds, as docs/schubert-bases.md reports it.
+    for case in ["Gr(2,4)", "Gr(2,5)"]:
+        results = {c.name: _run(case, c.name) for c in sb.CANDIDATES}
+        classical = [name for name, r in results.items() if _checks(r)["classical_lr"]]
+        assert classical == ["groth:S:1-x", "groth:S:1-1/x", "groth:Sdual:1-x",
+                             "groth:Sdual:1-1/x", "groth:Q:1-x", "groth:Q:1-1/x"], case
+        for name in ["groth:S:1-1/x", "groth:Sdual:1-x", "groth:Q:1-1/x"]:
+            assert not _checks(results[name])["finiteness"], (case, name)
+        assert not _checks(results["groth:Q:1-x"])["sum_rule"], case
+
+
 def test_quantum_products_of_gr24():
     # Buch–Mihalcea, Duke Math. J. 156 (2011), QK(Gr(2;4)) (recalled from memory; consistent
     # with quantum cohomology σ_1σ_21 = σ_22 + q and σ_22² = q²):
@@ -135,6 +150,22 @@ def test_candidate_with_inverse_is_not_polynomial_in_q():
     result = _run("Gr(2,4)", "groth:S:1-1/x")
     checks = _checks(result)
     assert not checks["finiteness"] and not checks["sum_rule"]
+    # Each failed check names its first counterexample, the classical-ring one included.
+    details = {c["name"]: c["detail"] for c in result.checks}
+    assert "first at N_{" in details["finiteness"]
+    assert not checks["classical_ring"] and "first at N_{" in details["classical_ring"] and \
+        "(classical ring)" in details["classical_ring"]
+
+
+def test_first_entry_difference_names_the_constant_and_both_values():
+    import flint
+    P = S.algebra.DEFAULT_PRIME
+    labels = ((), (1,))
+    a = flint.nmod_mat(2, 4, [0] * 8, P)
+    b = flint.nmod_mat(2, 4, [0] * 5 + [P - 3, 0, 0], P)
+    # entry 5: ν = [1], column 1 = (λ, μ) = ([], [1])
+    assert S._first_entry_difference(a, b, labels, P, ("one", "other")) == \
+        "N_{[],[1]}^[1]: 0 (one), -3 (other), mod p"
 
 
 # ---------------------------------------------------------------------------------------
@@ -153,6 +184,9 @@ def test_first_difference_names_the_product():
     a, b = _run("Gr(2,4)"), _run("Gr(2,4)", "groth:S:x")
     difference = S.first_difference(a, b)
     assert difference is not None and {"u", "v", "w"} <= set(difference)
+    # O_1 * O_2 has no O_[] term in Buch-Mihalcea's table (test_quantum_products_of_gr24);
+    # the wrong convention gets 2 - 2q there.  Written as in the table, not as exponent lists.
+    assert difference == {"u": [1], "v": [2], "w": [], "first": "0", "second": "2 - 2*q"}
 
 
 # ---------------------------------------------------------------------------------------
@@ -243,7 +277,8 @@ def test_cli_text_latex_and_exit_codes(capsys):
     out = capsys.readouterr().out
     assert "O[1] * O[2] = q*O[]" in out and "groth:S:1-x" in out
     assert main(["schubert", "P2", "--basis", "groth:S:x", "--latex"]) == 1
-    assert "\\begin{align*}" in capsys.readouterr().out
+    latex = capsys.readouterr().out
+    assert "\\begin{align*}" in latex and "$\\mathbb{P}^{2}$" in latex
     assert main(["schubert", "P2", "--basis", "nonsense"]) == 2
     assert main(["schubert", "P2", "--json", "--latex"]) == 2
     assert main(["schubert", "Fl(3)"]) == 2
@@ -348,3 +383,60 @@ def test_same_classes_through_the_meanings():
     # The Chern roots of the Bethe presentation have no λ-class representative.
     assert S.same_classes(gr24, builtin("Gr(2,4)", "groth:S:1-x", "whitney"),
                           builtin("Gr(2,4)", "groth:S:1-x", "bethe"), seed=3, prime=P) is None
+
+
+def test_bases_with_the_same_labels_in_another_order_are_compared():
+    # A file lists its labels in any order: the tables and the classes are still compared
+    # label by label (before the audit of issue #17 this said "not comparable").
+    P = S.algebra.DEFAULT_PRIME
+    gr24 = parse_flag("Gr(2,4)")
+    order = ["[2,2]", "[1]", "[]", "[2,1]", "[1,1]", "[2]"]
+    shuffled = S.Basis("shuffled", tuple(sb.parse_label(k) for k in order),
+                       polynomials=tuple(schubert_files.parse_polynomial(GR24[k]) for k in order))
+    mine = S.structure_constants(gr24, get_family("whitney"), shuffled, seed=SEED)
+    builtin = _run("Gr(2,4)", family="vieta")
+    assert mine.passed and S.first_difference(mine, builtin) is None
+    assert S.same_classes(gr24, (get_family("whitney"), shuffled),
+                          (get_family("vieta"), builtin.basis), seed=4, prime=P) == {"same": True}
+
+
+def test_same_table_but_other_classes_in_gr24(tmp_path, capsys):
+    # Gr(2;4) is self-dual: O_λ ↦ O_λ' (λ' the conjugate) preserves every structure constant
+    # (Buch, Acta Math. 189 (2002): c_{λμ}^ν = c_{λ'μ'}^ν'; the quantum constants likewise by
+    # Gr(2;4) ≅ Gr(2;4)^dual; recalled from memory).  So the basis with O_2 and O_11 swapped
+    # passes every check and gives the same table, and only the class comparison through the
+    # meanings of the generators tells the two apart.
+    from pathlib import Path
+    shipped = Path(__file__).resolve().parents[1] / "presentations/files"
+    table = lambda name, classes: (f'\n[schubert]\nname = "{name}"\n[[schubert.case]]\n'
+                                   'case = "Gr(2,4)"\n[schubert.case.classes]\n' +
+                                   "\n".join(f'"{k}" = "{v}"' for k, v in classes.items()) + "\n")
+    swapped = dict(GR24, **{"[2]": GR24["[1,1]"], "[1,1]": GR24["[2]"]})
+    first, second = tmp_path / "qw.toml", tmp_path / "vf.toml"
+    first.write_text((shipped / "qwhitney-family.toml").read_text() + table("by-hand", GR24))
+    second.write_text((shipped / "vieta-family.toml").read_text() + table("swapped", swapped))
+    assert main(["schubert", "Gr(2,4)", "--presentation", f"{first},{second}", "--json",
+                 "--seed", "4"]) == 0
+    payload = json.loads(capsys.readouterr().out)
+    assert all(run["passed"] for run in payload["runs"])
+    comparison = payload["comparisons"][0]
+    assert comparison["same_table"] is True and comparison["same_classes"] is False
+    assert comparison["classes"]["label"] == [2]
+
+
+def test_user_basis_on_a_partial_flag_that_is_not_complete(tmp_path):
+    # Fl(1,3;4) (two q parameters, rank 12 = 4·3: a P^2-bundle over P^3): the file form is
+    # accepted for any flag type and every check but the Littlewood-Richardson one runs.  The
+    # monomials L_1^a (det S_2)^b span K(Fl(1,3;4)) classically (basis check, at every q too),
+    # but they are no Schubert basis: their constants are not polynomials in q, and the
+    # checks say where.
+    classes = {f"[{3 * a + b + 1}]": f"S1_1^{a} * S2_3^{b}" for a in range(4) for b in range(3)}
+    flag = parse_flag("Fl(1,3;4)")
+    loaded = schubert_files.load_basis(_basis_file(tmp_path, classes, case="Fl(1,3;4)"), flag)
+    basis = S.Basis(loaded.name, loaded.labels, polynomials=loaded.polynomials)
+    result = S.structure_constants(flag, get_family("whitney"), basis, seed=SEED)
+    checks = _checks(result)
+    assert set(checks) == {"basis", "finiteness", "classical_ring", "sum_rule"}
+    assert checks["basis"] and not checks["finiteness"]
+    details = {c["name"]: c["detail"] for c in result.checks}
+    assert "first at N_{" in details["finiteness"] and "not run" in details["sum_rule"]
