@@ -48,20 +48,20 @@ def main() -> None:
         flag = parse_flag(name)
         wall, cpu, result = timed(flag, NAMES, "auto")
         points_wall, _, _ = timed(flag, NAMES, "points")
-        exact = all(p["exact"] for p in result["pairs"])
+        exact = all(p.exact for p in result.pairs)
         target = TARGETS.get(name)
-        rows.append([flag.name, flag.rank, result["verdict"], "yes" if exact else "NO",
-                     f"{cpu:.1f}", f"{wall:.1f}", f"{result['timings']['groebner']:.1f}",
-                     f"{result['timings']['points']:.1f}", f"{points_wall:.1f}",
+        rows.append([flag.name, flag.rank, result.verdict, "yes" if exact else "NO",
+                     f"{cpu:.1f}", f"{wall:.1f}", f"{result.timings['groebner']:.1f}",
+                     f"{result.timings['points']:.1f}", f"{points_wall:.1f}",
                      f"{wall / points_wall:.1f}",
                      "–" if target is None else ("yes" if cpu <= target else "NO")])
         print(tabulate([rows[-1]], tablefmt="plain"), flush=True)
     largest = parse_flag(names[-1])
     wall, cpu, result = timed(largest, ("whitney", str(PERTURBED)), "auto")
-    rows.append([f"{largest.name} perturbed", largest.rank, result["verdict"],
-                 result["pairs"][0]["method"], f"{cpu:.1f}", f"{wall:.1f}",
-                 f"{result['timings']['groebner']:.1f}", f"{result['timings']['points']:.1f}",
-                 "", "", "yes" if result["timings"]["groebner"] < 1 and cpu <= 60 else "NO"])
+    rows.append([f"{largest.name} perturbed", largest.rank, result.verdict,
+                 result.pairs[0].method, f"{cpu:.1f}", f"{wall:.1f}",
+                 f"{result.timings['groebner']:.1f}", f"{result.timings['points']:.1f}",
+                 "", "", "yes" if result.timings["groebner"] < 1 and cpu <= 60 else "NO"])
     print()
     print(tabulate(rows, headers=["case", "rank", "verdict", "exact", "CPU s", "wall s",
                                   "exact route s", "points s", "points-only s", "ratio",

@@ -57,12 +57,12 @@ def slowest_rows(runs, count):
     rows = []
     for name in names:
         result = main.results[name]
-        timings = result.get("timings") or {}
-        row = [name, result["rank"], result["verdict"]]
+        timings = result.timings
+        row = [name, result.rank, result.verdict]
         row += [f"{outcome.seconds.get(name, float('nan')):.2f}" for _, outcome, _ in runs]
         row += [f"{timings.get('groebner', 0.0):.2f}", f"{timings.get('points', 0.0):.2f}"]
-        notes = [note for p in result.get("presentations", {}).values()
-                 for note in p.get("notes", []) if note.startswith("no Gröbner")]
+        notes = [note for p in result.presentations.values()
+                 for note in p.notes if note.startswith("no Gröbner")]
         row.append("Gröbner skipped for some" if notes else "")
         rows.append(row)
     return rows
@@ -90,7 +90,7 @@ def main(argv=None) -> int:
         reference_wall = runs[-1][2] if len(runs) > 1 else None
         for (_, a, _, _), (_, b, _, _) in zip(runs, runs[1:]):
             differing = [c for c in a.results
-                         if a.results[c]["verdict"] != b.results[c]["verdict"]]
+                         if a.results[c].verdict != b.results[c].verdict]
             if differing:
                 print(f"WARNING: verdicts differ between runs for {', '.join(differing)}")
     print()

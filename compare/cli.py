@@ -207,7 +207,7 @@ def cmd_check(args) -> int:
     estimate = check_estimate(args.case, args.method, args.order, args.trials, len(families))
     size_guard(args, f"check {args.case.name}", estimate)
     result = limited_check(args, families, estimate.seconds)
-    emit(args, result, check_text(result))
+    emit(args, result.to_json(), check_text(result))
     if args.report is not None:
         from ringmatch.reports.discrepancy import reproduce_command
         from . import parameters
@@ -217,7 +217,7 @@ def cmd_check(args) -> int:
         paths = write_report(result, args.report, command=command,
                              families={f.name: f for f in families})
         print("report: " + " and ".join(map(str, paths)), file=sys.stderr)
-    return verdict_status(result["verdict"])
+    return verdict_status(result.verdict)
 
 
 # Exit statuses of `check` and `sweep` for scripts (README, "What a verdict guarantees").
@@ -233,7 +233,7 @@ def verdict_status(verdict: str) -> int:
     return EXIT_STATUS.get(verdict, 3)
 
 
-def limited_check(args, families, estimated_seconds: float) -> dict:
+def limited_check(args, families, estimated_seconds: float):
     """check_case under --case-timeout/--case-memory, with a line per stage on stderr when
     a person may be waiting (a terminal, or an estimate of more than a few seconds)."""
     import random
@@ -252,14 +252,12 @@ def limited_check(args, families, estimated_seconds: float) -> dict:
         except OSError as error:
             raise UsageError(str(error)) from None
     if isinstance(result, Stopped):
+        from .records import CaseResult, Certificate
         limits = {"seconds": args.case_timeout, "memory_mib": args.case_memory}
-        result = {"case": args.case.name, "rank": args.case.rank,
-                  "equivariant": not args.plain, "verdict": "inconclusive",
-                  "reason": result.reason,
-                  "certificate": {"prime": args.prime, "seed": seed, "order": args.order,
-                                  "method": args.method, "trials": [], "exact": False,
-                                  "kind": "not computed", "limits": limits},
-                  "presentations": {}, "pairs": [], "timings": {}}
+        result = CaseResult.undecided(
+            args.case.name, args.case.rank, not args.plain, result.reason,
+            Certificate(prime=args.prime, seed=seed, order=args.order, method=args.method,
+                        limits=limits))
     return result
 
 

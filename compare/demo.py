@@ -55,16 +55,16 @@ def write_table(store_path: Path, target: Path, command: str = "ringmatch demo")
     return target
 
 
-def write_counterexample(result: dict, folder: Path) -> list:
+def write_counterexample(result, folder: Path) -> list:
     """The discrepancy report when reports/discrepancy.py provides one, else the JSON."""
     try:
         from .report_command import write_report
     except ImportError:
         path = folder / "counterexample.json"
-        path.write_text(json.dumps(result, indent=2) + "\n", encoding="utf-8")
+        path.write_text(json.dumps(result.to_json(), indent=2) + "\n", encoding="utf-8")
         return [path]
-    command = (f"ringmatch check \"{result['case']}\" --presentations whitney,{CONJECTURE} "
-               f"--seed {result['certificate']['seed']}")
+    command = (f"ringmatch check \"{result.case}\" --presentations whitney,{CONJECTURE} "
+               f"--seed {result.certificate.seed}")
     return list(write_report(result, folder, command=command))
 
 
@@ -123,7 +123,7 @@ def run_demo(folder, *, workers: int, confirm_max_n: int = CONFIRM_MAX_N,
             f"({len(searched.results)} cases in {searched.wall:.1f} s)")
     else:
         agreed = [f.name for f in plan.flags[:plan.flags.index(parse_flag(first))]
-                  if searched.results[f.name]["verdict"] == "agree"]
+                  if searched.results[f.name].verdict == "agree"]
         say(f"  it agrees with whitney on the {len(agreed)} cases before it in sweep order "
             f"({agreed[0]} … {agreed[-1]}) and first fails at {first} "
             f"({searched.wall:.1f} s):" if agreed else f"  it first fails at {first}:")

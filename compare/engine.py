@@ -29,8 +29,8 @@ from __future__ import annotations
 
 import random
 import time
-from dataclasses import dataclass, field, fields, replace
-from typing import Dict, List, Optional, Sequence, Tuple, Union
+from dataclasses import dataclass, field, replace
+from typing import Dict, List, Optional, Sequence, Tuple
 
 import flint
 
@@ -40,8 +40,9 @@ from ringmatch.presentations.interface import Family, build_specialised, build_s
 from ringmatch.presentations.lambda_classes import det_S
 
 from . import algebra, groebner, lifting, points, transport
+from .records import (CaseResult, Certificate, Colength, PairResult, PointFailure,
+                      PresentationResult, Witness)
 
-SCHEMA_VERSION = 2
 # Every case up to this rank (all flag types with n ≤ 7, and Fl(2,4,6;8)) is decided exactly
 # in the automatic mode; larger ones only with --method groebner or both.
 EXACT_RANK_LIMIT = 5040
@@ -57,72 +58,6 @@ PROBABILITY_BASIS = (
     "residues to hit the zeros of a nonzero polynomial, which happens with probability at "
     "most its degree / p; each further trial (--trials) repeats the check with an "
     "independent seed and prime")
-
-Colength = Union[int, str, None]     # a number, "infinite", or None (not computed)
-
-
-@dataclass
-class PresentationReport:
-    name: str
-    generators: int
-    relations: int
-    expected_colength: int
-    colength: Colength = None
-    classical_colength: Colength = None
-    holds: Optional[bool] = None          # True only when exact; False: refuted (exactly)
-    holds_evidence: Optional[str] = None  # how `holds` (or its absence) was established
-    holds_to_order: Optional[int] = None  # relations vanish at the Bethe points mod s^N
-    separates: Optional[bool] = None
-    complete: Optional[bool] = None       # equals the quantum K ring at the specialisation
-    exact: bool = False                   # `complete` was decided by exact evidence
-    colength_method: Optional[str] = None
-    classical_method: Optional[str] = None
-    fixed_points_ok: Optional[bool] = None   # at q = 0: relations vanish, units do not,
-                                             # generators separate the fixed points
-    decided_by: Optional[str] = None      # why `complete` is what it is
-    failures: List[dict] = field(default_factory=list)
-    notes: List[str] = field(default_factory=list)
-
-    def to_json(self) -> dict:
-        return _record_json(self)
-
-    as_dict = to_json
-
-    @classmethod
-    def from_json(cls, data: dict) -> "PresentationReport":
-        return _record_from_json(cls, data)
-
-
-@dataclass
-class PairReport:
-    a: str
-    b: str
-    verdict: str                 # agree | disagree | consistent | inconclusive
-    method: str                  # what decided it (see docs/verdicts.md)
-    reason: str
-    witnesses: List[dict] = field(default_factory=list)
-    exact: bool = False
-    order: Optional[int] = None  # the truncation order, when the points decided it
-
-    def to_json(self) -> dict:
-        return _record_json(self)
-
-    as_dict = to_json
-
-    @classmethod
-    def from_json(cls, data: dict) -> "PairReport":
-        return _record_from_json(cls, data)
-
-
-def _record_json(record) -> dict:
-    return {f.name: getattr(record, f.name) for f in fields(record)}
-
-
-def _record_from_json(cls, data: dict):
-    """The record from its JSON form; keys of another schema version are left out."""
-    known = {f.name for f in fields(cls)}
-    return cls(**{k: v for k, v in data.items() if k in known})
-
 
 # ---------------------------------------------------------------------------------------
 # Specialisations and seeds
@@ -326,31 +261,31 @@ def same_ring(A: Ideal, B: Ideal) -> bool:
 
 
 def relations_outside(source: str, target: str, relations: Sequence, basis: list
-                      ) -> List[dict]:
+                      ) -> List[Witness]:
     """Up to MAX_WITNESSES relations of `source` whose normal form modulo `target`'s Gröbner
     basis is not 0, each as a witness with that normal form."""
     found = []
     for relation in relations:
         remainder = groebner.normal_form(relation.poly, basis)
         if remainder != 0:
-            found.append({"relation_of": source, "not_in": target, "relation": relation.label,
-                          "normal_form": algebra.poly_text(remainder,
-                                                           remainder.context().names())})
+            found.append(Witness(source, relation.label, not_in=target,
+                                 normal_form=algebra.poly_text(remainder,
+                                                               remainder.context().names())))
             if len(found) >= MAX_WITNESSES:
                 break
     return found
 
 
-def witnesses_between(a: str, b: str, A: Ideal, B: Ideal) -> List[dict]:
+def witnesses_between(a: str, b: str, A: Ideal, B: Ideal) -> List[Witness]:
     """Relations of one ideal that are not in the other, with their normal forms."""
     return relations_outside(a, b, A.relations, B.basis) + \
         relations_outside(b, a, B.relations, A.basis)
 
 
-def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport:
+def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairResult:
     """Two ideals in one ring: equal reduced Gröbner bases, or witnesses both ways."""
     if A.basis == B.basis and A.faithful and B.faithful:
-        return PairReport(a, b, "agree", "groebner", f"equal reduced Gröbner bases {where}")
+        return PairResult(a, b, "agree", "groebner", f"equal reduced Gröbner bases {where}")
     witnesses = witnesses_between(a, b, A, B)
     if A.colength != B.colength:
         reason = (f"colengths differ {where}: {_colength_value(A.colength)} and "
@@ -361,7 +296,7 @@ def compare_ideals(a: str, b: str, A: Ideal, B: Ideal, where: str) -> PairReport
                   "meanings")
     else:
         reason = f"the ideals differ {where}"
-    return PairReport(a, b, "disagree", "groebner", reason, witnesses)
+    return PairResult(a, b, "disagree", "groebner", reason, witnesses)
 
 
 
@@ -383,7 +318,7 @@ class Status:
     equal: Optional[bool]
     exact: bool
     reason: str
-    witnesses: List[dict] = field(default_factory=list)
+    witnesses: List[Witness] = field(default_factory=list)
 
 
 def reference_ideal(flag: FlagType, spec: algebra.Specialisation) -> Reference:
@@ -475,7 +410,7 @@ def _generates(presentation, ref: Reference, spec, flag: FlagType) -> bool:
 
 
 def exact_status(family: Family, flag: FlagType, spec: algebra.Specialisation,
-                 ref: Reference, report: PresentationReport) -> Status:
+                 ref: Reference, report: PresentationResult) -> Status:
     """Decide exactly whether the presentation equals the quantum K ring at `spec`; fills
     in holds, colength and their methods on the report."""
     name = family.name
@@ -499,7 +434,7 @@ def exact_status(family: Family, flag: FlagType, spec: algebra.Specialisation,
                              "exact: a relation does not reduce to 0 modulo the q-Whitney "
                              "ideal")
     if witnesses:
-        return Status(False, True, f"{witnesses[0]['relation']} of {name} is not in the "
+        return Status(False, True, f"{witnesses[0].relation} of {name} is not in the "
                       "q-Whitney ideal at the specialisation", witnesses)
     for unit in units:
         if not _is_unit_modulo(unit, ref, flag):
@@ -537,7 +472,7 @@ def exact_status(family: Family, flag: FlagType, spec: algebra.Specialisation,
 
 
 def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisation,
-                       report: PresentationReport) -> None:
+                       report: PresentationResult) -> None:
     report.classical_colength, report.classical_method = colength_with_units(
         family, flag, classical(spec), "the fixed points" if report.fixed_points_ok else None)
 
@@ -546,7 +481,7 @@ def classical_colength(family: Family, flag: FlagType, spec: algebra.Specialisat
 # Points route
 
 def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Specialisation,
-                   order: int, reports: Dict[str, PresentationReport]) -> dict:
+                   order: int, reports: Dict[str, PresentationResult]) -> dict:
     """Fill separates / failures / holds-to-order from the Bethe points.  A failing
     relation is an exact refutation; vanishing to order s^N only says so."""
     lifted = lifting.lift_points(flag, line, order)
@@ -556,8 +491,10 @@ def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Spe
         report.separates = result.separates
         report.fixed_points_ok = bool(result.separates and not result.classical_failure
                                       and not result.unit_failures)
-        report.failures = [failure.as_dict() for failure in result.failures[:MAX_WITNESSES]]
-        report.failures += [dict(failure.as_dict(), relation=f"unit {failure.unit} vanishes")
+        report.failures = [PointFailure.from_json(failure.as_dict())
+                           for failure in result.failures[:MAX_WITNESSES]]
+        report.failures += [PointFailure.from_json(dict(failure.as_dict(),
+                                                        relation=f"unit {failure.unit} vanishes"))
                             for failure in result.unit_failures[:MAX_WITNESSES]]
         if result.holds:
             report.holds_to_order = order
@@ -568,13 +505,12 @@ def points_reports(families: Sequence[Family], flag: FlagType, line: algebra.Spe
     return {"order": order, "q_line": list(line.q_line), "points": len(lifted.points)}
 
 
-def points_status(report: PresentationReport) -> Status:
+def points_status(report: PresentationResult) -> Status:
     if report.holds is False and report.failures:
         failure = report.failures[0]
-        return Status(False, True, f"{report.name}: {failure.get('relation')} does not vanish "
-                      "at a Bethe point", [{"relation_of": report.name,
-                                            "relation": f.get("relation"),
-                                            "fails_at_points": f} for f in report.failures])
+        return Status(False, True, f"{report.name}: {failure.relation} does not vanish "
+                      "at a Bethe point", [Witness(report.name, f.relation, fails_at_points=f)
+                                           for f in report.failures])
     return Status(None, False, "only the Bethe points were used")
 
 
@@ -582,40 +518,40 @@ def points_status(report: PresentationReport) -> Status:
 # Pairs and the overall verdict
 
 def compare_pair(a: str, b: str, status: Dict[str, Status],
-                 reports: Dict[str, PresentationReport], order: Optional[int],
-                 own_pair=None) -> PairReport:
+                 reports: Dict[str, PresentationResult], order: Optional[int],
+                 own_pair=None) -> PairResult:
     sa, sb = status[a], status[b]
     if sa.equal and sb.equal:
-        return PairReport(a, b, "agree", "exact at a specialisation",
+        return PairResult(a, b, "agree", "exact at a specialisation",
                           "both equal the q-Whitney ideal at the specialisation", exact=True)
     for good, bad in ((sa, sb), (sb, sa)):
         if good.equal and bad.equal is False:
-            method = ("Bethe points" if any("fails_at_points" in w for w in bad.witnesses)
+            method = ("Bethe points" if any(w.fails_at_points is not None for w in bad.witnesses)
                       else "exact at a specialisation")
-            return PairReport(a, b, "disagree", method, bad.reason, list(bad.witnesses),
+            return PairResult(a, b, "disagree", method, bad.reason, list(bad.witnesses),
                               exact=True, order=order if method == "Bethe points" else None)
     if sa.equal is False and sb.equal is False:
         if own_pair is not None:
             return own_pair()
-        return PairReport(a, b, "inconclusive", "exact at a specialisation",
+        return PairResult(a, b, "inconclusive", "exact at a specialisation",
                           "neither presents the quantum K ring (" + sa.reason + "; "
                           + sb.reason + "); their ideals were not compared with each other",
                           list(sa.witnesses) + list(sb.witnesses), exact=False)
     ra, rb = reports[a], reports[b]
     if order is not None and all(r.holds_to_order == order for r in (ra, rb)):
         undecided = " and ".join(r.name for r, s in ((ra, sa), (rb, sb)) if not s.equal)
-        return PairReport(a, b, "consistent", "Bethe points",
+        return PairResult(a, b, "consistent", "Bethe points",
                           f"every relation vanishes at every Bethe point to order s^{order}; "
                           f"not proven ({undecided}: "
                           + "; ".join(dict.fromkeys(s.reason for s in (sa, sb)
                                                     if not s.equal)) + ")",
                           exact=False, order=order)
     reasons = "; ".join(s.reason for s in (sa, sb) if s.equal is not True)
-    return PairReport(a, b, "inconclusive", "none", reasons or "not decided",
+    return PairResult(a, b, "inconclusive", "none", reasons or "not decided",
                       list(sa.witnesses) + list(sb.witnesses), exact=False, order=order)
 
 
-def overall_verdict(presentations: Dict[str, PresentationReport], pairs: List[PairReport],
+def overall_verdict(presentations: Dict[str, PresentationResult], pairs: List[PairResult],
                     order: Optional[int]) -> Tuple[str, str]:
     if any(p.verdict == "disagree" for p in pairs):
         return "disagree", "at least one pair of presentations differs"
@@ -644,11 +580,11 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
               equivariant: bool, order: int, method: str,
               budget: Optional[float] = None) -> dict:
     residues, line = trial_specialisations(flag, seed, prime, equivariant)
-    reports: Dict[str, PresentationReport] = {}
+    reports: Dict[str, PresentationResult] = {}
     timings = {"groebner": 0.0, "points": 0.0}
     for family in families:
         probe = build_specialised(family, flag, residues)
-        reports[family.name] = PresentationReport(
+        reports[family.name] = PresentationResult(
             family.name, len(probe.generators), len(probe.relations), probe.expected_colength)
 
     use_points = method in ("points", "both", "auto")
@@ -699,17 +635,17 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
                           own_pair(families[x], families[y]))
              for x in range(len(families)) for y in range(x + 1, len(families))]
 
-    certificate = residues.record()
-    certificate.update({"q_line": list(line.q_line), "order": points_order,
-                        "method": _method_label(use_exact, points_record is not None),
-                        "exact": False, "kind": "", "probability": PROBABILITY_BASIS,
-                        "budget_seconds": budget})
+    certificate = Certificate(**residues.record())
+    certificate.q_line = list(line.q_line)
+    certificate.order = points_order
+    certificate.method = _method_label(use_exact, points_record is not None)
+    certificate.probability, certificate.budget_seconds = PROBABILITY_BASIS, budget
     return {"certificate": certificate, "presentations": reports, "pairs": pairs,
             "timings": timings, "points": points_record}
 
 
 def exact_reports(families: Sequence[Family], flag: FlagType,
-                  residues: algebra.Specialisation, reports: Dict[str, PresentationReport],
+                  residues: algebra.Specialisation, reports: Dict[str, PresentationResult],
                   status: Dict[str, Status], budget: Optional[float]) -> None:
     """The exact route for every presentation not already refuted by the points."""
     from ringmatch.presentations import get_family
@@ -735,7 +671,7 @@ def exact_reports(families: Sequence[Family], flag: FlagType,
                     continue
                 if family.solved_by_points:
                     if vieta_status is None or not vieta_status.exact:
-                        probe = PresentationReport(vieta.name, 0, 0, flag.rank,
+                        probe = PresentationResult(vieta.name, 0, 0, flag.rank,
                                                    separates=report.separates)
                         vieta_status = exact_status(vieta, flag, residues, ref, probe)
                     status[family.name] = _through_vieta(vieta_status, report)
@@ -753,19 +689,19 @@ def exact_reports(families: Sequence[Family], flag: FlagType,
 
 
 def compare_own_ideals(fa: Family, fb: Family, flag: FlagType,
-                       spec: algebra.Specialisation) -> PairReport:
+                       spec: algebra.Specialisation) -> PairResult:
     """Two presentations in the same generators, compared ideal to ideal (reduced Gröbner
     bases with the units inverted)."""
     A, B = own_ideal(fa, flag, spec), own_ideal(fb, flag, spec)
     if not same_ring(A, B):
-        return PairReport(fa.name, fb.name, "inconclusive", "none",
+        return PairResult(fa.name, fb.name, "inconclusive", "none",
                           "neither presents the quantum K ring and their rings differ")
     pair = compare_ideals(fa.name, fb.name, A, B, "in their common generators")
     pair.method, pair.exact = "exact at a specialisation", True
     return pair
 
 
-def _through_vieta(vieta: Status, report: PresentationReport) -> Status:
+def _through_vieta(vieta: Status, report: PresentationResult) -> Status:
     """`bethe` equals the quantum K ring exactly when `vieta` does (module notes)."""
     argument = ("by construction: with distinct roots in each level the Bethe equations say "
                 "that λ_y(S_i) divides N_i(y), i.e. the auxiliary-root (Vieta) form, so the "
@@ -786,8 +722,8 @@ def _method_label(use_groebner: bool, use_points: bool) -> str:
             (False, False): "none"}[(use_groebner, use_points)]
 
 
-def _certificate_kind(verdict: str, pairs: List[PairReport],
-                      presentations: Dict[str, PresentationReport]) -> Tuple[bool, str]:
+def _certificate_kind(verdict: str, pairs: List[PairResult],
+                      presentations: Dict[str, PresentationResult]) -> Tuple[bool, str]:
     exact = verdict in ("agree", "disagree") and (
         all(p.exact for p in pairs if p.verdict == verdict) if pairs else
         all(r.exact for r in presentations.values()))
@@ -824,7 +760,7 @@ def validate(flag: FlagType, families: Sequence[Family], *, prime: int, trials: 
 def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int] = None,
                prime: int = algebra.DEFAULT_PRIME, equivariant: bool = True,
                order: Optional[int] = None, trials: int = 1, method: str = "auto",
-               budget: Optional[float] = None) -> dict:
+               budget: Optional[float] = None) -> CaseResult:
     """Run `trials` independent trials; the verdict stands only if all trials agree.
 
     `order` None: the truncation order is chosen from the relations (`truncation_order`).
@@ -842,31 +778,18 @@ def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int
                             equivariant=equivariant, order=order, method=method,
                             budget=budget)
         outcome["verdict"], outcome["reason"] = overall_verdict(
-            outcome["presentations"], outcome["pairs"], outcome["certificate"]["order"])
-        exact, kind = _certificate_kind(outcome["verdict"], outcome["pairs"],
-                                        outcome["presentations"])
-        outcome["certificate"].update(exact=exact, kind=kind)
+            outcome["presentations"], outcome["pairs"], outcome["certificate"].order)
+        outcome["certificate"].exact, outcome["certificate"].kind = _certificate_kind(
+            outcome["verdict"], outcome["pairs"], outcome["presentations"])
         outcomes.append(outcome)
     first = outcomes[0]
     verdicts = {o["verdict"] for o in outcomes}
     verdict, reason = (first["verdict"], first["reason"]) if len(verdicts) == 1 else \
         ("inconclusive", "independent trials reached different verdicts: "
          + ", ".join(o["verdict"] for o in outcomes))
-    certificate = dict(first["certificate"])
-    certificate["seed"] = seed
-    certificate["order_source"] = order_source
-    certificate["exact"] = certificate["exact"] and len(verdicts) == 1
-    certificate["trials"] = [o["certificate"] for o in outcomes]
-    return {
-        "schema": SCHEMA_VERSION,
-        "case": flag.name,
-        "rank": flag.rank,
-        "equivariant": equivariant,
-        "verdict": verdict,
-        "reason": reason,
-        "exact": certificate["exact"],
-        "certificate": certificate,
-        "presentations": {name: r.to_json() for name, r in first["presentations"].items()},
-        "pairs": [p.to_json() for p in first["pairs"]],
-        "timings": first["timings"],
-    }
+    certificate = replace(first["certificate"], seed=seed, order_source=order_source,
+                          exact=first["certificate"].exact and len(verdicts) == 1,
+                          trials=[o["certificate"] for o in outcomes])
+    return CaseResult(flag.name, flag.rank, equivariant, verdict, reason, certificate,
+                      exact=certificate.exact, presentations=first["presentations"],
+                      pairs=first["pairs"], timings=first["timings"])

@@ -23,9 +23,11 @@ def results_view(source: Source, **options) -> ResultsView:
     return ResultsView(prepared_table(source, "latex", chosen), chosen)
 
 
-def check_view(result: dict) -> CheckView:
+def check_view(result) -> CheckView:
+    """`result`: a `compare.records.CaseResult` (or its JSON form)."""
+    from .records import as_case_result
     from .report_command import report_record
-    return CheckView(report_record(result))
+    return CheckView(report_record(as_case_result(result)))
 
 
 def relations_view(presentation: str, case: str, *, equivariant: bool = True) -> RelationsView:

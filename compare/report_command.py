@@ -12,8 +12,10 @@ from typing import Dict, Iterable, List, Mapping, Optional, Tuple
 
 from ringmatch.reports import discrepancy
 
+from .records import CaseResult
 
-def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = None
+
+def relation_formulas(result: CaseResult, families: Optional[Mapping[str, object]] = None
                       ) -> Dict[str, Dict[str, dict]]:
     """{presentation: {label: {"text", "latex"}}} for the failing and witnessing relations.
 
@@ -26,7 +28,7 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
     from ringmatch.presentations.interface import build_symbolic
     from ringmatch.reports.formulas import formula, relation_latex, symbols_latex
 
-    flag = parse_flag(result["case"])
+    flag = parse_flag(result.case)
     out: Dict[str, Dict[str, dict]] = {}
     for name, labels in discrepancy.failing_labels(result).items():
         family = (families or {}).get(name)
@@ -35,7 +37,7 @@ def relation_formulas(result: dict, families: Optional[Mapping[str, object]] = N
                 family = get_family(name)
             except Exception:
                 continue
-        presentation = build_symbolic(family, flag, equivariant=result["equivariant"])
+        presentation = build_symbolic(family, flag, equivariant=result.equivariant)
         names = presentation.ring.ctx.names()
         # LaTeX shows generators by their meaning (λ_j(S_i), …), plain text by their names.
         symbol_latex = symbols_latex(presentation.generators)
@@ -57,23 +59,24 @@ def unresolvable_names(names: Iterable[str]) -> List[str]:
     return missing
 
 
-def report_record(result: dict, *, command: Optional[str] = None,
-                  families: Optional[Mapping[str, object]] = None) -> dict:
+def report_record(result: CaseResult, *, command: Optional[str] = None,
+                  families: Optional[Mapping[str, object]] = None
+                  ) -> discrepancy.DiscrepancyReport:
     """`reports.discrepancy.report_record` with the formulas and, when no command is given,
     the unresolvable names computed."""
-    unresolvable = unresolvable_names(result["presentations"]) if command is None else []
+    unresolvable = unresolvable_names(result.names) if command is None else []
     return discrepancy.report_record(result, command=command,
                                      formulas=relation_formulas(result, families),
                                      unresolvable=unresolvable)
 
 
-def write_report(result: dict, directory, *, command: Optional[str] = None,
+def write_report(result: CaseResult, directory, *, command: Optional[str] = None,
                  families: Optional[Mapping[str, object]] = None) -> Tuple:
     """Write `<stem>.md` and `<stem>.json` for one `check_case` result into `directory`
     (created if needed) and return their paths.  `command` is the command line to show
     for reproduction (by default one rebuilt from the certificate); `families` maps
     presentation names to Family records that cannot be found by name."""
-    unresolvable = unresolvable_names(result["presentations"]) if command is None else []
+    unresolvable = unresolvable_names(result.names) if command is None else []
     return discrepancy.write_report(result, directory, command=command,
                                     formulas=relation_formulas(result, families),
                                     unresolvable=unresolvable)

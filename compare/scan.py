@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import itertools
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Callable, Dict, List, Optional, Sequence, Tuple
 
 from ringmatch.errors import UsageError
@@ -40,6 +40,7 @@ from ringmatch.presentations.flagtype import FlagType
 
 from . import limited, store
 from .cases import CaseTask, Source, case_order, family_of, load_sources, unsupported_reasons
+from .records import CaseResult
 from .sweep import needs_computing
 from .workers import Limits, run_local
 
@@ -258,50 +259,46 @@ def plan_scan(name: str, flags: Sequence[FlagType], *, reference: str = "whitney
 # ---------------------------------------------------------------------------------------
 # Running
 
-def point_record(plan: ScanPlan, flag: FlagType, point: Point, result: dict,
+def point_record(plan: ScanPlan, flag: FlagType, point: Point, result: CaseResult,
                  refuted: bool, seconds: float) -> dict:
     """What the scan reports of one case at one point (from a check result)."""
     name = plan.family_name(point)
-    report = result.get("presentations", {}).get(name, {})
+    report = result.presentations.get(name)
     record = {"case": flag.name, "rank": flag.rank, "values": dict(point),
-              "colength": report.get("colength"),
-              "classical_colength": report.get("classical_colength"),
-              "holds": report.get("holds"),
-              "verdict": result.get("verdict", "inconclusive"),
-              "reason": result.get("reason", ""),
+              "colength": report and report.colength,
+              "classical_colength": report and report.classical_colength,
+              "holds": report and report.holds,
+              "verdict": result.verdict, "reason": result.reason,
               "refuted_by_points": refuted, "seconds": round(float(seconds), 3)}
-    for key in ("holds_evidence", "holds_to_order"):
-        if key in report:
-            record[key] = report[key]
-    if "exact" in result:
-        record["exact"] = result["exact"]
-    note = result.get("scan", {}).get("colengths")
+    if report is not None:
+        record["holds_evidence"] = report.holds_evidence
+        record["holds_to_order"] = report.holds_to_order
+    if result.decided:
+        record["exact"] = result.exact
+    note = (result.scan or {}).get("colengths")
     if note:
         record["colengths_note"] = note
     return record
 
 
-def refuted_at_points(plan: ScanPlan, point: Point, result: dict) -> bool:
+def refuted_at_points(plan: ScanPlan, point: Point, result: CaseResult) -> bool:
     """Whether a relation (or a declared unit) of the file fails at a Bethe point — an exact
     refutation, as the engine's `points_status` reads it."""
-    report = result.get("presentations", {}).get(plan.family_name(point), {})
-    return report.get("holds") is False and bool(report.get("failures"))
+    report = result.presentations.get(plan.family_name(point))
+    return report is not None and report.holds is False and bool(report.failures)
 
 
-def refutation(result: dict, plan: ScanPlan, point: Point) -> dict:
+def refutation(result: CaseResult, plan: ScanPlan, point: Point) -> CaseResult:
     """A points-only result that disagrees (the engine's verdict, from a relation failing at
     a Bethe point), marked as the scan stores it: no Gröbner basis, no colengths."""
-    out = dict(result)
     name = plan.family_name(point)
-    witness = next((p.get("reason") for p in result.get("pairs", [])
-                    if p.get("verdict") == "disagree"), None)
-    failures = result.get("presentations", {}).get(name, {}).get("failures") or [{}]
-    relation = failures[0].get("relation")
-    out["reason"] = (witness or f"{name}: " + (f"{relation} does not vanish" if relation else
-                                               "some relations do not vanish")
-                     + " at a Bethe point") + " (no Gröbner basis computed)"
-    out["scan"] = {"refuted_by_points": True}
-    return out
+    witness = next((p.reason for p in result.pairs if p.verdict == "disagree"), None)
+    report = result.presentations.get(name)
+    relation = report.failures[0].relation if report is not None and report.failures else None
+    reason = (witness or f"{name}: " + (f"{relation} does not vanish" if relation else
+                                        "some relations do not vanish")
+              + " at a Bethe point") + " (no Gröbner basis computed)"
+    return replace(result, reason=reason, scan={"refuted_by_points": True})
 
 
 def colengths_at(family, flag: FlagType, *, seed: int, prime: int, equivariant: bool,
@@ -327,60 +324,57 @@ def colengths_at(family, flag: FlagType, *, seed: int, prime: int, equivariant: 
     return out
 
 
-def missing_colengths(plan: ScanPlan, point: Point, result: dict) -> bool:
-    report = result.get("presentations", {}).get(plan.family_name(point))
-    return report is not None and (report.get("colength") is None
-                                   or report.get("classical_colength") is None)
+def missing_colengths(plan: ScanPlan, point: Point, result: CaseResult) -> bool:
+    report = result.presentations.get(plan.family_name(point))
+    return report is not None and (report.colength is None
+                                   or report.classical_colength is None)
 
 
-def with_colengths(plan: ScanPlan, flag: FlagType, point: Point, result: dict,
-                   limits: Limits) -> dict:
+def with_colengths(plan: ScanPlan, flag: FlagType, point: Point, result: CaseResult,
+                   limits: Limits) -> CaseResult:
     """The check result with the file's missing colengths computed (`colengths_at`, at the
     check's seed and prime, under the scan's limits); a colength the check computed is
     kept.  A limit that stops the computation leaves them missing and says so."""
     if not missing_colengths(plan, point, result):
         return result
     name = plan.family_name(point)
-    report = result["presentations"][name]
-    certificate = result.get("certificate", {})
+    report = result.presentations[name]
+    certificate = result.certificate
     family = family_of(plan.source(point))
 
     def work() -> dict:
-        return colengths_at(family, flag, seed=certificate["seed"],
-                            prime=certificate["prime"],
-                            equivariant=result.get("equivariant", plan.settings["equivariant"]),
-                            fixed_points_ok=bool(report.get("fixed_points_ok")),
-                            quantum=report.get("colength") is None,
-                            classical=report.get("classical_colength") is None)
+        return colengths_at(family, flag, seed=certificate.seed, prime=certificate.prime,
+                            equivariant=result.equivariant,
+                            fixed_points_ok=bool(report.fixed_points_ok),
+                            quantum=report.colength is None,
+                            classical=report.classical_colength is None)
 
     try:
         computed = limited.run_limited(work, seconds=limits.seconds,
                                        memory_mib=limits.memory_mib)
     except Exception as error:      # stored with the point, like a case's error in a sweep
         computed = limited.Stopped(f"error: {type(error).__name__}: {error}")
-    out = dict(result)
-    out["presentations"] = dict(result["presentations"])
-    new = dict(report)
+    new = replace(report)
     if isinstance(computed, limited.Stopped):
         note = f"colengths not computed: {computed.reason}"
     else:
         note = "computed by the scan (--colengths) at the check's specialisation"
         for key, method in (("colength", "colength_method"),
                             ("classical_colength", "classical_method")):
-            if new.get(key) is None:
-                new[key] = computed[key]
-                new[method] = computed[method] + " (by the scan: the check did not need it)"
-    out["presentations"][name] = new
-    out["scan"] = dict(result.get("scan", {}), colengths=note)
+            if getattr(new, key) is None:
+                setattr(new, key, computed[key])
+                setattr(new, method,
+                        computed[method] + " (by the scan: the check did not need it)")
+    scan = dict(result.scan or {}, colengths=note)
     if isinstance(computed, limited.Stopped):
-        out["scan"]["colength_limits"] = limits.record()
-    return out
+        scan["colength_limits"] = limits.record()
+    return replace(result, presentations={**result.presentations, name: new}, scan=scan)
 
 
 def colengths_again(row: dict, limits: Limits) -> bool:
     """A stored point whose colengths a limit (or an error) stopped is computed again under
     other limits, as a sweep does with a case that ran into a limit."""
-    scan_note = row["result"].get("scan", {})
+    scan_note = row["result"].scan or {}
     return "colength_limits" in scan_note and scan_note["colength_limits"] != limits.record()
 
 
@@ -397,7 +391,7 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
                 not colengths_again(row, limits):
             result = row["result"]
             outcome.results[(flag.name, point)] = point_record(
-                plan, flag, point, result, bool(result.get("scan", {}).get("refuted_by_points")),
+                plan, flag, point, result, bool((result.scan or {}).get("refuted_by_points")),
                 row["seconds"])
             outcome.from_store += 1
         else:
@@ -409,10 +403,9 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
     done = [0]
     total = len(todo)
 
-    def save(flag: FlagType, point: Point, result: dict, seconds: float, refuted: bool):
-        if result.get("presentations"):
-            result = dict(result)
-            result["scan"] = dict(result.get("scan", {}), refuted_by_points=refuted)
+    def save(flag: FlagType, point: Point, result: CaseResult, seconds: float, refuted: bool):
+        if result.decided:
+            result = replace(result, scan=dict(result.scan or {}, refuted_by_points=refuted))
         store.save_result(conn, plan.store_settings(point), result, seconds, run=run)
         outcome.results[(flag.name, point)] = point_record(plan, flag, point, result, refuted,
                                                            seconds)
@@ -428,11 +421,11 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
     if plan.settings["colengths"]:
         second = list(todo)
     else:
-        def after_points(index: int, result: dict, seconds: float):
+        def after_points(index: int, result: CaseResult, seconds: float):
             flag, point = todo[index]
-            if not result.get("presentations"):
+            if not result.decided:
                 save(flag, point, result, seconds, False)     # a limit or an error: as is
-            elif result.get("verdict") == "disagree" and refuted_at_points(plan, point, result):
+            elif result.verdict == "disagree" and refuted_at_points(plan, point, result):
                 save(flag, point, refutation(result, plan, point), seconds, True)
             else:
                 second.append((flag, point))
@@ -441,7 +434,7 @@ def evaluate(plan: ScanPlan, items: Sequence[Tuple[FlagType, Point]], outcome: S
         run_local([(i, plan.task(f, p, "points")) for i, (f, p) in enumerate(todo)], limits,
                   workers, after_points)
 
-    def after_full(index: int, result: dict, seconds: float):
+    def after_full(index: int, result: CaseResult, seconds: float):
         flag, point = second[index]
         if plan.settings["colengths"] and missing_colengths(plan, point, result):
             begun = time.monotonic()

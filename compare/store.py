@@ -9,6 +9,9 @@ Public functions (reports read the store through them):
 * `save_result(conn, settings, result, seconds)` → None, one transaction
 * `load_results(path)`                       → every row as a dict, in sweep order
 
+A row's `result` is the case's `compare.records.CaseResult`: saved as its `to_json()`, read
+with `CaseResult.from_json` (which reads the results of earlier schema versions too).
+
 A row is written in a single transaction after its case has finished, so a sweep killed at
 any moment (SIGKILL included) leaves every finished case stored and no half-written row:
 SQLite's journal rolls an interrupted transaction back when the file is next opened.
@@ -25,6 +28,8 @@ from typing import List, Optional, Sequence, Tuple
 
 from ringmatch.errors import InputError
 from ringmatch.presentations.flagtype import FlagType, parse_flag
+
+from .records import CaseResult, RecordError
 
 SCHEMA_VERSION = 1
 
@@ -228,18 +233,18 @@ def _database_path(conn: sqlite3.Connection) -> str:
     return "results store"
 
 
-def save_result(conn: sqlite3.Connection, settings: dict, result: dict, seconds: float, *,
-                run: Optional[dict] = None) -> None:
-    flag = parse_flag(result["case"])
+def save_result(conn: sqlite3.Connection, settings: dict, result: CaseResult, seconds: float,
+                *, run: Optional[dict] = None) -> None:
+    flag = parse_flag(result.case)
     names = [p["name"] for p in settings["presentations"]]
     finished = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="microseconds")
     # SQLite integers have 64 bits; a larger rank (Fl(21) and up) is stored as text and
     # read back from the flag type
     rank = flag.rank if flag.rank < 2**63 else str(flag.rank)
     values = (flag.name, settings_key(settings), flag.n, rank, case_kind(flag),
-              json.dumps(list(flag.dims)), json.dumps(names), result["verdict"],
-              result["reason"], float(seconds), json.dumps(settings, sort_keys=True),
-              json.dumps(result), finished, json.dumps(run or run_record()))
+              json.dumps(list(flag.dims)), json.dumps(names), result.verdict,
+              result.reason, float(seconds), json.dumps(settings, sort_keys=True),
+              json.dumps(result.to_json()), finished, json.dumps(run or run_record()))
     with conn:   # one transaction: the row is there completely or not at all
         conn.execute(f"INSERT OR REPLACE INTO results ({', '.join(COLUMNS)}) "
                      f"VALUES ({', '.join('?' * len(COLUMNS))})", values)
@@ -264,6 +269,11 @@ def _checked_row(path, row) -> dict:
         problem = "its result has no certificate"
     elif not isinstance(record["reason"], str) or not isinstance(record["verdict"], str):
         problem = "its verdict or reason is not text"
+    else:
+        try:
+            record["result"] = CaseResult.from_json(result)
+        except RecordError as error:
+            problem = f"its result is not readable: {error}"
     if problem:
         raise StoreError(f"{where} is damaged ({problem}); delete that row or use another "
                          "store")

@@ -26,6 +26,7 @@ from ringmatch.presentations.flagtype import FlagType, parse_flag
 
 from . import store
 from .cases import CaseTask, Source, case_order, load_sources, unsupported_reasons
+from .records import CaseResult
 from .workers import CRASHED, Limits, run_dask, run_local
 
 DEFAULT_STORE = "ringmatch-sweeps.db"
@@ -47,26 +48,26 @@ class SweepPlan:
 @dataclass
 class SweepOutcome:
     plan: SweepPlan
-    results: Dict[str, dict] = field(default_factory=dict)     # case → check result
+    results: Dict[str, CaseResult] = field(default_factory=dict)     # case → its result
     seconds: Dict[str, float] = field(default_factory=dict)
     from_store: List[str] = field(default_factory=list)
     computed: List[str] = field(default_factory=list)
     not_run: List[str] = field(default_factory=list)           # after the first counterexample
     wall: float = 0.0
 
-    def ordered_results(self) -> List[dict]:
+    def ordered_results(self) -> List[CaseResult]:
         return [self.results[f.name] for f in self.plan.flags if f.name in self.results]
 
     @property
     def first_counterexample(self) -> Optional[str]:
         for flag in self.plan.flags:
             result = self.results.get(flag.name)
-            if result is not None and result["verdict"] == "disagree":
+            if result is not None and result.verdict == "disagree":
                 return flag.name
         return None
 
     def counts(self) -> Dict[str, int]:
-        return dict(Counter(r["verdict"] for r in self.ordered_results()))
+        return dict(Counter(r.verdict for r in self.ordered_results()))
 
 
 def plan_sweep(flags: Sequence[FlagType], names: Sequence[str], *, seed: int, prime: int,
@@ -91,25 +92,26 @@ def needs_computing(row: dict, limits: Limits, retry_failed: bool = False) -> bo
     if reason.startswith(("error:", CRASHED)):
         return retry_failed or failed_attempts(row["result"]) < FAILED_ATTEMPTS
     if reason.startswith("limit:"):
-        return row["result"]["certificate"].get("limits") != limits.record()
+        return row["result"].certificate.limits != limits.record()
     return False
 
 
-def failed_attempts(result: dict) -> int:
-    return int(result.get("certificate", {}).get("failed_attempts", 1))
+def failed_attempts(result: CaseResult) -> int:
+    attempts = result.certificate.failed_attempts
+    return 1 if attempts is None else int(attempts)
 
 
-def count_failure(result: dict, previous: Optional[dict]) -> dict:
+def count_failure(result: CaseResult, previous: Optional[dict]) -> CaseResult:
     """A crash or error result, with how often this case has failed so far; at the bound,
-    the reason says that it is not retried and how to retry it."""
-    if not result["reason"].startswith(("error:", CRASHED)):
+    the reason says that it is not retried and how to retry it (`previous`: the stored row)."""
+    if not result.reason.startswith(("error:", CRASHED)):
         return result
     attempts = 1
     if previous is not None and previous["reason"].startswith(("error:", CRASHED)):
         attempts = failed_attempts(previous["result"]) + 1
-    result["certificate"]["failed_attempts"] = attempts
+    result.certificate.failed_attempts = attempts
     if attempts >= FAILED_ATTEMPTS:
-        result["reason"] += (f"; failed {attempts} times, not computed again (run the sweep "
+        result.reason += (f"; failed {attempts} times, not computed again (run the sweep "
                              f"with {RETRY_OPTION} to try again)")
     return result
 
@@ -143,7 +145,7 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
         run = store.run_record(command)
         total, done = len(todo), 0
 
-        def finished(index: int, result: dict, seconds: float) -> Optional[int]:
+        def finished(index: int, result: CaseResult, seconds: float) -> Optional[int]:
             nonlocal done
             name = plan.flags[index].name
             result = count_failure(result, stored.get(name))
@@ -154,8 +156,8 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
             done += 1
             if progress:
                 progress(done, total, time.monotonic() - started,
-                         f"{name} {result['verdict']}")
-            if stop_at_first and result["verdict"] == "disagree":
+                         f"{name} {result.verdict}")
+            if stop_at_first and result.verdict == "disagree":
                 return index
             return None
 
@@ -182,7 +184,7 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
 def first_disagreement(plan: SweepPlan, outcome: SweepOutcome) -> Optional[int]:
     for index, flag in enumerate(plan.flags):
         result = outcome.results.get(flag.name)
-        if result is not None and result["verdict"] == "disagree":
+        if result is not None and result.verdict == "disagree":
             return index
     return None
 
@@ -273,7 +275,9 @@ def _clock(seconds: float) -> str:
 
 
 def outcome_json(outcome: SweepOutcome, store_path) -> dict:
-    return {"cases": outcome.ordered_results(),
+    """`sweep --json`: the cases in the schema of `check --json` (compare/records.py), and
+    the sweep's own fields."""
+    return {"cases": [result.to_json() for result in outcome.ordered_results()],
             "first_counterexample": outcome.first_counterexample,
             "counts": outcome.counts(),
             "skipped": [{"case": c, "reason": r} for c, r in outcome.plan.skipped],

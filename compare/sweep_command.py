@@ -191,7 +191,7 @@ def command(args) -> int:
 
 def sweep_status(results) -> int:
     """1 when any case disagrees, 0 when every case agrees (exactly), otherwise 3."""
-    verdicts = {r.get("verdict") for r in results}
+    verdicts = {r.verdict for r in results}
     if "disagree" in verdicts:
         return 1
     return 0 if verdicts == {"agree"} else 3

@@ -44,6 +44,11 @@ def prepared_table(source: Source, fmt: str = "latex",
     return table
 
 
+def _equivariant(row: dict) -> bool:
+    result = row.get("result")         # a compare.records.CaseResult
+    return True if result is None else result.equivariant
+
+
 # ---------------------------------------------------------------------------------------
 # Relations of small cases
 
@@ -56,7 +61,7 @@ def case_relations(row: dict, max_rank: int) -> List[CaseRelations]:
     flag = parse_flag(row["case"])
     if flag.rank > max_rank:
         return []
-    equivariant = (row.get("result") or {}).get("equivariant", True)
+    equivariant = _equivariant(row)
     out = []
     for name in row["presentations"]:
         try:
@@ -94,7 +99,8 @@ def finder_problem(family, flag) -> Optional[str]:
 def isomorphism_seed(row: dict) -> Tuple[int, str]:
     """The seed of the check's first trial, so that the table is reproducible from the store;
     a row without one gets a seed fixed by its case name."""
-    seed = ((row.get("result") or {}).get("certificate") or {}).get("seed")
+    result = row.get("result")
+    seed = None if result is None else result.certificate.seed
     if seed is not None:
         return int(seed) % 2**32, "the check's seed"
     return zlib.crc32(row["case"].encode()), "CRC-32 of the case name (no seed stored)"
@@ -113,7 +119,7 @@ def case_isomorphism(row: dict, max_rank: int) -> Optional[CaseIsomorphism]:
     if flag.rank > max_rank or len(names) < 2:
         return None
     found = CaseIsomorphism(row["case"], [])
-    if not (row.get("result") or {}).get("equivariant", True):
+    if not _equivariant(row):
         found.note = "not equivariant: the fixed points collide when every T_j = 1, and the " \
                      "finder evaluates at them"
         return found

@@ -25,6 +25,7 @@ from multiprocessing.connection import wait as wait_for
 from typing import Callable, Dict, Optional, Sequence, Tuple
 
 from .cases import CaseTask, family_of
+from .records import CaseResult, Certificate
 
 
 # ---------------------------------------------------------------------------------------
@@ -40,28 +41,24 @@ class Limits:
 
 
 
-def run_case(task: CaseTask) -> dict:
-    """The `check --json` result of one case (compare.engine.check_case), seeds recorded."""
+def run_case(task: CaseTask) -> CaseResult:
+    """The result of one case (compare.engine.check_case), seeds recorded."""
     from .engine import check_case
     families = [family_of(source) for source in task.sources]
     result = check_case(task.flag, families, seed=task.seed, prime=task.prime,
                         equivariant=task.equivariant, order=task.order, trials=task.trials,
                         method=task.method)
-    result["certificate"]["sweep_seed"] = task.sweep_seed
+    result.certificate.sweep_seed = task.sweep_seed
     return result
 
 
-def undecided_result(task: CaseTask, reason: str, limits: Limits) -> dict:
-    """A case that produced no comparison (limit, worker failure), in the shape of a
-    check result so that stores, tables and reports treat it like any other."""
+def undecided_result(task: CaseTask, reason: str, limits: Limits) -> CaseResult:
+    """A case that produced no comparison (limit, worker failure): a CaseResult like any
+    other, so that stores, tables and reports treat it alike."""
     flag = task.flag
-    return {"case": flag.name, "rank": flag.rank, "equivariant": task.equivariant,
-            "verdict": "inconclusive", "reason": reason,
-            "certificate": {"prime": task.prime, "seed": task.seed,
-                            "sweep_seed": task.sweep_seed, "order": task.order,
-                            "method": task.method, "trials": [], "exact": False,
-                            "kind": "not computed", "limits": limits.record()},
-            "presentations": {}, "pairs": [], "timings": {}}
+    return CaseResult.undecided(flag.name, flag.rank, task.equivariant, reason, Certificate(
+        prime=task.prime, seed=task.seed, sweep_seed=task.sweep_seed, order=task.order,
+        method=task.method, limits=limits.record()))
 
 
 def set_memory_limit(memory_mib: int) -> None:
@@ -190,11 +187,11 @@ CRASHED = "crashed:"
 
 
 def outcome_result(task: CaseTask, limits: Limits, message, exitcode,
-                   output: str = "") -> dict:
+                   output: str = "") -> CaseResult:
     """The stored result for what a worker sent back (or for its death; `output` is the
     end of what it printed, where FLINT says why it aborted)."""
     if message is not None and message[0] == "ok":
-        message[1]["certificate"]["limits"] = limits.record()
+        message[1].certificate.limits = limits.record()
         return message[1]
     flint_out_of_memory = message is None and "allocate" in output.lower()
     if message is not None and message[0] == "memory" or \
@@ -234,7 +231,7 @@ def exit_text(exitcode) -> str:
     return f"exit status {exitcode}"
 
 
-def timeout_result(task: CaseTask, limits: Limits) -> dict:
+def timeout_result(task: CaseTask, limits: Limits) -> CaseResult:
     return undecided_result(task, f"limit: took longer than --case-timeout {limits.seconds:g} s",
                             limits)
 
@@ -313,7 +310,7 @@ def stopped_by_limit(job: Running, limits: Limits, now: float) -> Optional[Tuple
                                 limits), seconds
 
 
-def finish_case(running: Running, limits: Limits) -> Tuple[dict, float]:
+def finish_case(running: Running, limits: Limits) -> Tuple[CaseResult, float]:
     """Read the worker's message (it is there, or the worker is gone) and reap it."""
     message = None
     try:
@@ -373,7 +370,7 @@ def local_context():
 
 
 def run_local(tasks: Sequence[Tuple[int, CaseTask]], limits: Limits, workers: int,
-              finished: Callable[[int, dict, float], Optional[int]]) -> None:
+              finished: Callable[[int, CaseResult, float], Optional[int]]) -> None:
     """Run the tasks on `workers` processes.  `finished(index, result, seconds)` is called
     as each case ends and returns a cutoff index (or None): cases after it are dropped,
     running ones killed — how --stop-at-first stops without losing a smaller case."""
@@ -415,7 +412,7 @@ def run_local(tasks: Sequence[Tuple[int, CaseTask]], limits: Limits, workers: in
 # ---------------------------------------------------------------------------------------
 # Dask
 
-def run_isolated(task: CaseTask, limits: Limits) -> Tuple[dict, float]:
+def run_isolated(task: CaseTask, limits: Limits) -> Tuple[CaseResult, float]:
     """One case in a killable child process with the limits (a Dask task's body).  Inside a
     daemonic worker process, which may not have children, the case runs in the task itself
     and the limits are those of the cluster; the certificate says so."""
@@ -426,7 +423,7 @@ def run_isolated(task: CaseTask, limits: Limits) -> Tuple[dict, float]:
         except MemoryError:
             return undecided_result(task, "limit: out of memory in the Dask worker",
                                     limits), time.monotonic() - started
-        result["certificate"]["limits"] = dict(
+        result.certificate.limits = dict(
             limits.record(), enforced="by the cluster (daemonic Dask worker)")
         return result, time.monotonic() - started
     # forkserver, not fork: Dask runs tasks in threads, and forking a threaded process is
@@ -443,7 +440,8 @@ def run_isolated(task: CaseTask, limits: Limits) -> Tuple[dict, float]:
 
 
 def run_dask(address: str, tasks: Sequence[Tuple[int, CaseTask]], limits: Limits,
-             finished: Callable[[int, dict, float], Optional[int]], key_prefix: str) -> None:
+             finished: Callable[[int, CaseResult, float], Optional[int]],
+             key_prefix: str) -> None:
     from distributed import Client, as_completed
     with Client(address, timeout="20s") as client:
         futures = {client.submit(run_isolated, task, limits, pure=False,

@@ -3,12 +3,14 @@
 Sources accepted everywhere in `reports` (tables, figures, notebooks):
 
 * a store file written by the sweeps (`compare.store`, SQLite): read with `load_results`;
-* a `.json` file holding one `ringmatch check --json` result or a list of them (or a list
-  of store rows);
-* rows already in memory: store rows or `compare.engine.check_case` results.
+* a `.json` file written by `ringmatch check --json`, by `check --report` (its JSON file) or
+  by `sweep --json` (the cases under "cases"), or a list of check results or store rows: all
+  in the one case schema of `compare.records` (older schema versions are read too);
+* rows already in memory: store rows or `compare.records.CaseResult`s (`check_case`).
 
-Every source becomes a list of *rows* in the store's shape (`row_from_result` converts a
-bare check result), and `results_frame` turns rows into a DataFrame.
+Every source becomes a list of *rows* in the store's shape, each with its `result` a
+CaseResult (`row_from_result` makes the row of a bare result), and `results_frame` turns
+rows into a DataFrame.
 
 DataFrame columns (one row per stored case, in sweep order):
 
@@ -54,10 +56,11 @@ import json
 from pathlib import Path
 from typing import Iterable, List, Optional, Sequence, Union
 
+from ringmatch.compare.records import CaseResult, Certificate, RecordError, as_case_result
 from ringmatch.errors import InputError
-from ringmatch.presentations.flagtype import FlagType, parse_flag
+from ringmatch.presentations.flagtype import FlagType, FlagTypeError, parse_flag
 
-Source = Union[str, Path, Sequence[dict]]
+Source = Union[str, Path, Sequence[Union[dict, CaseResult]]]
 
 FRAME_COLUMNS = ("case", "n", "dims", "steps", "m", "kind", "rank", "equivariant",
                  "presentations", "verdict", "reason", "method", "order", "trials", "exact",
@@ -77,15 +80,15 @@ class SourceError(InputError):
 CERTIFICATE_WORDS = ("exact", "not proven", "none")
 
 
-def certificate_word(certificate: dict) -> str:
+def certificate_word(certificate: Certificate) -> str:
     """"exact" when the verdict was decided exactly at a random specialisation (agree, or
     disagree with a witness), "not proven" when only the Bethe points to order s^N speak for
     it (consistent), "none" when nothing was decided; the old words of earlier stores
     ("probabilistic", "exact") are kept as they are."""
-    kind = certificate.get("kind") or ""
+    kind = certificate.kind or ""
     if kind in ("probabilistic", "exact"):
         return kind
-    if certificate.get("exact"):
+    if certificate.exact:
         return "exact"
     if kind.startswith("Bethe points"):
         return "not proven"
@@ -100,33 +103,33 @@ def flag_kind(flag: FlagType) -> str:
     return "complete" if flag.is_complete else "partial"
 
 
-def row_from_result(result: dict, *, seconds: Optional[float] = None,
+def row_from_result(result: CaseResult, *, seconds: Optional[float] = None,
                     presentations: Optional[Sequence[str]] = None,
                     command: Optional[str] = None) -> dict:
     """A store-shaped row for one `check_case` result (the fields a sweep would store)."""
-    flag = parse_flag(result["case"])
-    timings = result.get("timings") or {}
+    flag = parse_flag(result.case)
     if seconds is None:
-        seconds = float(sum(v for v in timings.values() if isinstance(v, (int, float))))
-    return {"case": result["case"], "n": flag.n, "rank": flag.rank, "kind": flag_kind(flag),
-            "dims": list(flag.dims),
-            "presentations": list(presentations or result["presentations"]),
-            "verdict": result["verdict"], "reason": result["reason"], "seconds": seconds,
+        seconds = float(sum(v for v in result.timings.values()
+                            if isinstance(v, (int, float))))
+    return {"case": result.case, "n": flag.n, "rank": flag.rank, "kind": flag_kind(flag),
+            "dims": list(flag.dims), "presentations": list(presentations or result.names),
+            "verdict": result.verdict, "reason": result.reason, "seconds": seconds,
             "settings": {}, "result": result, "finished_at": None,
             "run": {"command": command, "versions": {}}}
 
 
-def _is_row(item: dict) -> bool:
-    return "result" in item and "verdict" in item
+def _is_row(item) -> bool:
+    return isinstance(item, dict) and "result" in item and "verdict" in item
 
 
-def _named_presentations(item):
-    """A result whose presentations are a list of records (a discrepancy report's JSON),
-    with them keyed by name as in `check --json`."""
-    if isinstance(item, dict) and isinstance(item.get("presentations"), list) and all(
-            isinstance(p, dict) and "name" in p for p in item["presentations"]):
-        item = dict(item, presentations={p["name"]: p for p in item["presentations"]})
-    return item
+def _row(item) -> dict:
+    """A row from a stored row (its result read into a CaseResult), a CaseResult or the JSON
+    of one (RecordError, ValueError when it is neither)."""
+    if isinstance(item, CaseResult):
+        return row_from_result(item)
+    if _is_row(item):
+        return dict(item, result=as_case_result(item["result"]))
+    return row_from_result(CaseResult.from_json(item))
 
 
 def _rows_from_json(path: Path) -> List[dict]:
@@ -137,18 +140,21 @@ def _rows_from_json(path: Path) -> List[dict]:
     except json.JSONDecodeError as error:
         raise SourceError(f"{path}:{error.lineno}:{error.colno}: not valid JSON "
                           f"({error.msg})") from None
-    # `sweep --json` wraps its results in {"cases": [...]}; `check --json` is one result;
-    # `check --report` writes one result whose presentations are a list of named records.
+    # `sweep --json` wraps its cases in {"cases": [...]}; `check --json` and the JSON of
+    # `check --report` are one case (the report with fields of its own besides).
     if isinstance(data, dict) and isinstance(data.get("cases"), list) and "verdict" not in data:
         data = data["cases"]
     items = data if isinstance(data, list) else [data]
-    items = [_named_presentations(item) for item in items]
     rows = []
     for index, item in enumerate(items):
+        where = f"{path}: item {index}" if isinstance(data, list) else f"{path}"
         if not isinstance(item, dict) or not ("case" in item and "verdict" in item):
-            raise SourceError(f"{path}: item {index} is neither a check result nor a "
-                              "stored row (needs 'case' and 'verdict')")
-        rows.append(item if _is_row(item) else row_from_result(item))
+            raise SourceError(f"{where} is neither a check result nor a stored row (needs "
+                              "'case' and 'verdict')")
+        try:
+            rows.append(_row(item))
+        except (RecordError, FlagTypeError) as error:
+            raise SourceError(f"{where} is not a readable check result: {error}") from None
     return rows
 
 
@@ -185,7 +191,7 @@ def load_rows(source: Source) -> List[dict]:
         if path.suffix.lower() == ".json":
             return _rows_from_json(path)
         return _rows_from_store(path)
-    return [item if _is_row(item) else row_from_result(item) for item in source]
+    return [_row(item) for item in source]
 
 
 def _versions_command(row: dict) -> Optional[str]:
@@ -196,23 +202,23 @@ def _versions_command(row: dict) -> Optional[str]:
 def frame_record(row: dict) -> dict:
     """One DataFrame row (see the module docstring) from one store row."""
     flag = FlagType(tuple(row["dims"]), row["n"])
-    result = row.get("result") or {}
-    certificate = result.get("certificate") or {}
-    trials = certificate.get("trials") or ([certificate] if certificate else [])
-    exact = bool(certificate.get("exact", False))
+    result = row.get("result")
+    certificate = result.certificate if result is not None else Certificate()
+    # an undecided case (a limit, a crash) ran no trial
+    trials = certificate.trials or ([certificate] if certificate.prime is not None else [])
     return {
         "case": row["case"], "n": flag.n, "dims": flag.dims,
         "steps": tuple(flag.d(i) for i in range(flag.m + 1)), "m": flag.m,
         "kind": row.get("kind") or flag_kind(flag), "rank": row.get("rank", flag.rank),
-        "equivariant": result.get("equivariant"),
-        "presentations": tuple(row.get("presentations") or result.get("presentations", ())),
+        "equivariant": None if result is None else result.equivariant,
+        "presentations": tuple(row.get("presentations") or (result.names if result else ())),
         "verdict": row["verdict"], "reason": row.get("reason", ""),
-        "method": certificate.get("method"), "order": certificate.get("order"),
-        "trials": len(trials), "exact": exact,
+        "method": certificate.method, "order": certificate.order,
+        "trials": len(trials), "exact": bool(certificate.exact),
         "certificate": certificate_word(certificate),
-        "prime": certificate.get("prime"),
-        "primes": tuple(t.get("prime") for t in trials),
-        "seed": certificate.get("seed"), "seconds": row.get("seconds"),
+        "prime": certificate.prime,
+        "primes": tuple(t.prime for t in trials),
+        "seed": certificate.seed, "seconds": row.get("seconds"),
         "finished_at": row.get("finished_at"), "command": _versions_command(row),
         "sweep": sweep_key(row),
     }
@@ -224,9 +230,10 @@ def sweep_key(row: dict) -> Optional[str]:
 
 
 def is_equivariant(row: dict) -> bool:
-    result = row.get("result") or {}
-    settings = row.get("settings") or {}
-    return bool(result.get("equivariant", settings.get("equivariant", True)))
+    result = row.get("result")
+    if result is not None:
+        return bool(result.equivariant)
+    return bool((row.get("settings") or {}).get("equivariant", True))
 
 
 def select_rows(rows: Sequence[dict], *, sweep: Optional[str] = None,

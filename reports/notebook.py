@@ -17,6 +17,7 @@ import html
 from dataclasses import dataclass, field
 from typing import List, Optional
 
+from .discrepancy import DiscrepancyReport
 from .tables import Table, TableOptions, latex_table, markdown_table
 
 
@@ -56,10 +57,11 @@ class ResultsView:
 @dataclass
 class CheckView:
     """One `check_case` result: verdict, presentations, pairs and witnesses, from its
-    discrepancy-report record (`compare.report_command.report_record`)."""
-    record: dict
+    discrepancy report (`compare.report_command.report_record`, a
+    `reports.discrepancy.DiscrepancyReport`)."""
+    record: DiscrepancyReport
 
-    def _record(self) -> dict:
+    def _record(self) -> DiscrepancyReport:
         return self.record
 
     def _repr_markdown_(self) -> str:
@@ -67,33 +69,38 @@ class CheckView:
         return markdown_text(self._record())
 
     def _repr_html_(self) -> str:
-        record = self._record()
-        parts = [f"<p><b>{html.escape(record['case'])}</b>: {html.escape(record['verdict'])} "
-                 f"— {html.escape(record['reason'])}</p>",
+        from .discrepancy import fixed_point_text
+        report = self._record()
+        result = report.result
+        parts = [f"<p><b>{html.escape(result.case)}</b>: {html.escape(result.verdict)} "
+                 f"— {html.escape(result.reason)}</p>",
                  _html_table(["presentation", "colength", "colength at q = 0", "holds",
                               "complete"],
-                             [[p["name"], p["colength"], p["classical_colength"], p["holds"],
-                               p["complete"]] for p in record["presentations"]])]
-        if record["pairs"]:
+                             [[name, p.colength, p.classical_colength, p.holds, p.complete]
+                              for name, p in result.presentations.items()])]
+        if result.pairs:
             parts.append(_html_table(["first", "second", "verdict", "method", "reason"],
-                                     [[p["a"], p["b"], p["verdict"], p["method"], p["reason"]]
-                                      for p in record["pairs"]]))
-        for f in record["failed_relations"]:
-            formula = f" <code>{html.escape(f['formula'])}</code>" if f.get("formula") else ""
-            parts.append(f"<p>{html.escape(f['presentation'])} [{html.escape(f['relation'])}] "
-                         f"fails at the Bethe points over {html.escape(f['fixed_point'])}"
-                         f"{formula}</p>")
+                                     [[p.a, p.b, p.verdict, p.method, p.reason]
+                                      for p in result.pairs]))
+        for name, f in report.failed_relations():
+            text = report.formula(name, f.relation)
+            formula = f" <code>{html.escape(text)}</code>" if text else ""
+            parts.append(f"<p>{html.escape(name)} [{html.escape(f.relation)}] "
+                         f"fails at the Bethe points over "
+                         f"{html.escape(fixed_point_text(f.fixed_point))}{formula}</p>")
         return "\n".join(parts)
 
     def _repr_latex_(self) -> Optional[str]:
-        record = self._record()
-        failed = [f for f in record["failed_relations"] if f.get("latex")]
+        report = self._record()
+        failed = [(name, f.relation, report.formula(name, f.relation, "latex"))
+                  for name, f in report.failed_relations()]
+        failed = [item for item in failed if item[2]]
         if not failed:
             return None     # Jupyter then falls back to HTML
         lines = [r"\begin{aligned}"]
         from .tables import label_latex, latex_escape
-        lines += [rf"&\text{{{latex_escape(f['presentation'])} [{label_latex(f['relation'])}]: }}"
-                  rf" && {f['latex']} \\" for f in failed]
+        lines += [rf"&\text{{{latex_escape(name)} [{label_latex(relation)}]: }}"
+                  rf" && {latex} \\" for name, relation, latex in failed]
         return "$$" + "\n".join(lines) + r"\end{aligned}$$"
 
 

@@ -27,10 +27,10 @@ def provenance(rows: Sequence[dict], command: Optional[str]) -> dict:
     """Everything needed to trace the output back to its computations."""
     primes, seeds, runs, stored_versions = [], [], [], []
     for row in rows:
-        certificate = (row.get("result") or {}).get("certificate") or {}
-        trials = certificate.get("trials") or [certificate]
-        primes += [t.get("prime") for t in trials]
-        seeds.append((row["case"], [t.get("seed") for t in trials]))
+        result = row.get("result")
+        trials = result.certificate.all_trials if result is not None else []
+        primes += [t.prime for t in trials]
+        seeds.append((row["case"], [t.seed for t in trials]))
         run = row.get("run") or {}
         runs.append(run.get("command"))
         if run.get("versions"):

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from typing import Dict, List, Optional, Sequence, Tuple
 
+from ringmatch.compare.records import CaseResult
+
 from .frames import VERDICTS
 from .summary import witness_text
 
@@ -17,8 +19,8 @@ def table_rows(outcome: SweepOutcome) -> List[list]:
         result = outcome.results.get(flag.name)
         if result is None:
             continue
-        rows.append([flag.name, flag.n, flag.rank, result["verdict"],
-                     f"{outcome.seconds.get(flag.name, 0.0):.2f}", result["reason"]])
+        rows.append([flag.name, flag.n, flag.rank, result.verdict,
+                     f"{outcome.seconds.get(flag.name, 0.0):.2f}", result.reason])
     return rows
 
 
@@ -31,18 +33,18 @@ def sweep_table(outcome: SweepOutcome, tablefmt: str = "simple") -> str:
                     disable_numparse=True)
 
 
-def witness_lines(result: dict) -> List[str]:
-    lines = [f"{pair['a']} vs {pair['b']}: {pair['reason']}"
-             for pair in result["pairs"] if pair["verdict"] == "disagree"]
-    for pair in result["pairs"]:
-        if pair["verdict"] == "disagree":
-            lines += ["  " + witness_text(pair, w) for w in pair["witnesses"]]
-    for name, report in result["presentations"].items():
-        if report.get("complete") is False and not any(
-                pair["verdict"] == "disagree" for pair in result["pairs"]):
-            lines.append(f"{name} does not present the ring (holds: {report.get('holds')}, "
-                         f"classical colength {report.get('classical_colength')}, expected "
-                         f"{report.get('expected_colength')})")
+def witness_lines(result: CaseResult) -> List[str]:
+    lines = [f"{pair.a} vs {pair.b}: {pair.reason}"
+             for pair in result.pairs if pair.verdict == "disagree"]
+    for pair in result.pairs:
+        if pair.verdict == "disagree":
+            lines += ["  " + witness_text(pair, w) for w in pair.witnesses]
+    for name, report in result.presentations.items():
+        if report.complete is False and not any(
+                pair.verdict == "disagree" for pair in result.pairs):
+            lines.append(f"{name} does not present the ring (holds: {report.holds}, "
+                         f"classical colength {report.classical_colength}, expected "
+                         f"{report.expected_colength})")
     return lines
 
 
@@ -78,7 +80,7 @@ def summary_text(outcome: SweepOutcome, *, store_path, cluster: Optional[str] = 
 def exact_agreement_rank(outcome: SweepOutcome) -> Optional[int]:
     """The largest rank R such that every case of rank ≤ R in the results agrees (`agree`
     is exact; `consistent` is not agreement), or None."""
-    results = [(outcome.results[f.name].get("rank", f.rank), outcome.results[f.name]["verdict"])
+    results = [(outcome.results[f.name].rank or f.rank, outcome.results[f.name].verdict)
                for f in outcome.plan.flags if f.name in outcome.results]
     failing = [rank for rank, verdict in results if verdict != "agree"]
     bound = min(failing) if failing else None

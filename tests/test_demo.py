@@ -53,18 +53,18 @@ def test_the_first_counterexample_in_sweep_order_is_gr45(tmp_path):
                             trials=1, method="auto")
     outcome = sweep.run_sweep(plan, tmp_path / "s.db", workers=2, stop_at_first=True)
     assert outcome.first_counterexample == "Gr(4;5)"
-    verdicts = [r["verdict"] for r in outcome.ordered_results()]
+    verdicts = [r.verdict for r in outcome.ordered_results()]
     assert verdicts == ["agree"] * 12 + ["disagree"]       # n ≤ 4 (11 cases) and P4 agree
-    pair = outcome.results["Gr(4;5)"]["pairs"][0]
-    assert pair["verdict"] == "disagree"
-    assert any(w.get("relation") == "level 1, y^5" for w in pair["witnesses"])
+    pair = outcome.results["Gr(4;5)"].pairs[0]
+    assert pair.verdict == "disagree"
+    assert any(w.relation == "level 1, y^5" for w in pair.witnesses)
 
 
 def test_conjecture_is_wrong_beyond_the_first_counterexample_too():
     """Not an accident of one case: every Grassmannian with k ≥ 4 and n ≤ 6 disagrees."""
     families = [FAMILIES["whitney"], get_family(CONJECTURE)]
     for case in ("Gr(4;6)", "Gr(5;6)"):
-        assert check_case(parse_flag(case), families, seed=3)["verdict"] == "disagree", case
+        assert check_case(parse_flag(case), families, seed=3).verdict == "disagree", case
 
 
 def test_demo_writes_the_report_and_tables_and_says_what_it_found(tmp_path):

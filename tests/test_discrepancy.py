@@ -18,6 +18,7 @@ import sympy
 
 from ringmatch.compare.cli import main as cli_main
 from ringmatch.compare.engine import check_case
+from ringmatch.compare.records import SCHEMA_VERSION, CaseResult
 from ringmatch.presentations import get_family, whitney
 from ringmatch.presentations.flagtype import parse_flag
 from ringmatch.reports.discrepancy import case_file_stem
@@ -75,6 +76,7 @@ def flipped_result():
 
 
 SHIPPED = "presentations/files/examples/whitney-sign-error.toml"
+REPORT_FIELDS = ("format", "command", "notes", "formulas")   # besides the case schema
 
 
 @pytest.fixture(scope="module")
@@ -104,12 +106,12 @@ def test_flipped_sign_report(flipped_result, tmp_path):
     assert pair["verdict"] == "disagree"
 
     # Every relation the report names as failing is printed as the flipped formula.
-    failed = [f for f in record["failed_relations"] if f["presentation"] == "whitney-flipped"]
+    failed = record["presentations"]["whitney-flipped"]["failures"]
     assert failed
     for failure in failed:
         level, power = label_position(failure["relation"])
         expected = sympy_text(sympy_whitney_coefficient(FL3, level, power, quantum_sign=-1))
-        assert failure["formula"] == expected
+        assert record["formulas"]["whitney-flipped"][failure["relation"]]["text"] == expected
         assert expected in markdown
         # and it differs from the published relation with the same label
         published = sympy_text(sympy_whitney_coefficient(FL3, level, power))
@@ -123,19 +125,20 @@ def test_flipped_sign_report(flipped_result, tmp_path):
 def test_shipped_conjecture_report(shipped_result, tmp_path):
     _, _, markdown, record = read_report(shipped_result, tmp_path)
     assert record["verdict"] == "disagree"
-    names = [p["name"] for p in record["presentations"]]
-    assert names == ["whitney", "whitney-sign-error"]
-    rows = {p["name"]: p for p in record["presentations"]}
+    assert record["schema"] == SCHEMA_VERSION     # the case schema of check --json
+    assert list(record["presentations"]) == ["whitney", "whitney-sign-error"]
+    rows = record["presentations"]
     assert rows["whitney"]["complete"] is True
     assert rows["whitney-sign-error"]["holds"] is False
     assert rows["whitney-sign-error"]["complete"] is False
 
     # The file says the slipped sign first matters at level 2 of Fl(1,2;3) (λ_1(S_1) ≠ 0).
-    failure = record["failed_relations"][0]
-    assert failure["presentation"] == "whitney-sign-error"
+    assert not rows["whitney"]["failures"]
+    failure = rows["whitney-sign-error"]["failures"][0]
     assert failure["relation"] == "level 2, y^2"
     expected = sympy_text(sympy_whitney_coefficient(FL3, 2, 2, below_sign=+1))
-    assert failure["formula"] == expected and expected in markdown
+    formulas = record["formulas"]["whitney-sign-error"]
+    assert formulas["level 2, y^2"]["text"] == expected and expected in markdown
 
     # The points refuted it (docs/verdicts.md §3): an exact witness naming the failing
     # point and the power of s, and no Gröbner basis (so no normal form) for it.
@@ -144,7 +147,8 @@ def test_shipped_conjecture_report(shipped_result, tmp_path):
     witnesses = pair["witnesses"]
     assert witnesses and all(w["kind"] == "fails at the Bethe points" for w in witnesses)
     assert witnesses[0]["relation_of"] == "whitney-sign-error"
-    assert witnesses[0]["relation"] == "level 2, y^2" and witnesses[0]["formula"] == expected
+    assert witnesses[0]["relation"] == "level 2, y^2"
+    assert witnesses[0]["fails_at_points"] == failure and witnesses[0]["normal_form"] is None
     assert "fails at the Bethe points: at the point over {1} ⊂ {1,2}, from s^1 on" in markdown
     assert rows["whitney-sign-error"]["colength"] is None
     assert rows["whitney-sign-error"]["exact"] is True
@@ -171,46 +175,54 @@ def test_shipped_conjecture_exact_witnesses(shipped_exact_result, tmp_path):
     pair = record["pairs"][0]
     assert pair["method"] == "exact at a specialisation"
     witnesses = pair["witnesses"]
-    assert witnesses and all(w["kind"] == "not in the other ideal" for w in witnesses)
+    assert witnesses and all(w["kind"] == "not in the ideal" for w in witnesses)
     expected = sympy_text(sympy_whitney_coefficient(FL3, 2, 2, below_sign=+1))
+    formulas = record["formulas"]["whitney-sign-error"]
     for w in witnesses:
         assert (w["relation_of"], w["not_in"]) == ("whitney-sign-error", "whitney")
         assert w["normal_form"] and f"`{w['normal_form']}`" in markdown
-        assert "**" not in w["normal_form"]
-        assert w["formula"] in markdown
-    assert [w["formula"] for w in witnesses if w["relation"] == "level 2, y^2"] == [expected]
-    assert not record["failed_relations"]          # no points were evaluated
+        assert "**" not in w["normal_form"] and w["fails_at_points"] is None
+        assert formulas[w["relation"]]["text"] in markdown
+    assert formulas["level 2, y^2"]["text"] == expected
+    # no points were evaluated
+    assert not any(p["failures"] for p in record["presentations"].values())
     assert "--method groebner" in record["command"]
 
 
 def test_json_is_the_markdown_record(shipped_result, tmp_path):
     _, _, markdown, record = read_report(shipped_result, tmp_path)
-    assert record == json.loads(json.dumps(report_record(shipped_result), ensure_ascii=False))
-    assert record["case"] == shipped_result["case"] and record["rank"] == 6
-    for p in record["presentations"]:
-        assert f"| {p['name']}" in markdown
+    assert record == json.loads(json.dumps(report_record(shipped_result).to_json(),
+                                           ensure_ascii=False))
+    assert record["case"] == shipped_result.case and record["rank"] == 6
+    # the case schema of `check --json`, with the report's own fields besides
+    assert CaseResult.from_json(record) == shipped_result
+    assert {k: v for k, v in record.items() if k not in REPORT_FIELDS} == \
+        json.loads(json.dumps(shipped_result.to_json(), ensure_ascii=False))
+    for name in record["presentations"]:
+        assert f"| {name}" in markdown
     for pair in record["pairs"]:
         assert pair["reason"] in markdown
 
 
 def test_the_printed_command_reproduces_the_result(shipped_result):
     record = report_record(shipped_result)
-    words = shlex.split(record["command"])
+    words = shlex.split(record.command)
     assert words[:2] == ["ringmatch", "check"]
     out = io.StringIO()
     with contextlib.redirect_stdout(out):
         assert cli_main(words[1:] + ["--json"]) == 1      # exit status 1: disagree
-    again = json.loads(out.getvalue())
-    assert again["verdict"] == shipped_result["verdict"]
-    assert again["certificate"]["weights"] == shipped_result["certificate"]["weights"]
-    assert again["pairs"] == shipped_result["pairs"]
+    again = CaseResult.from_json(json.loads(out.getvalue()))
+    assert again.verdict == shipped_result.verdict
+    assert again.certificate.weights == shipped_result.certificate.weights
+    assert again.pairs == shipped_result.pairs
 
 
 def test_agreement_has_no_witness_section(tmp_path):
     result = check_case(parse_flag("P2"), [whitney.FAMILY, get_family("vieta")], seed=3)
     _, _, markdown, record = read_report(result, tmp_path)
     assert record["verdict"] == "agree"
-    assert "Witnesses" not in markdown and not record["failed_relations"]
+    assert "Witnesses" not in markdown
+    assert not any(p["failures"] for p in record["presentations"].values())
     assert (tmp_path / "P2.md").exists()
 
 
@@ -222,7 +234,7 @@ def test_points_only_report_says_consistent_not_proven(tmp_path):
     _, _, markdown, record = read_report(result, tmp_path)
     assert record["verdict"] == "consistent" and "**consistent**" in markdown
     order = record["certificate"]["order"]
-    vieta = {p["name"]: p for p in record["presentations"]}["vieta"]
+    vieta = record["presentations"]["vieta"]
     assert vieta["holds"] is None and vieta["holds_to_order"] == order
     assert f"to s^{order} at the points (not proven)" in markdown
     assert record["certificate"]["exact"] is False
@@ -235,14 +247,14 @@ def test_plain_points_check_reproduces_with_a_method_the_check_accepts():
     the printed command says points, and running it gives the same result."""
     result = check_case(parse_flag("P2"), [whitney.FAMILY, get_family("vieta")], seed=3,
                         method="points", equivariant=False)
-    assert result["verdict"] == "inconclusive" and result["certificate"]["method"] == "none"
-    words = shlex.split(report_record(result)["command"])
+    assert result.verdict == "inconclusive" and result.certificate.method == "none"
+    words = shlex.split(report_record(result).command)
     assert words[words.index("--method") + 1] == "points" and "--plain" in words
     out = io.StringIO()
     with contextlib.redirect_stdout(out):
         assert cli_main(words[1:] + ["--json"]) == 3      # exit status 3: inconclusive
-    again = json.loads(out.getvalue())
-    assert (again["verdict"], again["pairs"]) == (result["verdict"], result["pairs"])
+    again = CaseResult.from_json(json.loads(out.getvalue()))
+    assert (again.verdict, again.pairs) == (result.verdict, result.pairs)
 
 
 @pytest.mark.parametrize("case, equivariant, stem", [

@@ -34,19 +34,19 @@ def families(*names):
 @pytest.mark.parametrize("flag", ALL_UP_TO_5, ids=lambda f: f.name)
 def test_whitney_vieta_eliminated_and_bethe_agree_up_to_n5(flag):
     result = check_case(flag, families("whitney", "vieta", "vieta-eliminated", "bethe"), seed=11)
-    assert result["verdict"] == "agree", result["reason"]
-    for name, p in result["presentations"].items():
-        assert p["holds"] and p["complete"], (name, p)
+    assert result.verdict == "agree", result.reason
+    for name, p in result.presentations.items():
+        assert p.holds and p.complete, (name, p)
         if name != "bethe":
-            assert p["colength"] == p["classical_colength"] == flag.rank
-    assert all(pair["verdict"] == "agree" for pair in result["pairs"])
+            assert p.colength == p.classical_colength == flag.rank
+    assert all(pair.verdict == "agree" for pair in result.pairs)
 
 
 @pytest.mark.parametrize("case", ["Fl(3)", "Fl(4)", "Fl(5)"])
 def test_toda_agrees_with_whitney_and_bethe(case):
     result = check_case(parse_flag(case), families("whitney", "toda", "bethe"), seed=2)
-    assert result["verdict"] == "agree", result["reason"]
-    assert result["presentations"]["toda"]["colength"] == parse_flag(case).rank
+    assert result.verdict == "agree", result.reason
+    assert result.presentations["toda"].colength == parse_flag(case).rank
 
 
 def test_plain_case_agrees():
@@ -54,8 +54,8 @@ def test_plain_case_agrees():
                         equivariant=False)
     # Non-equivariantly all weights are 1: the fixed points collide, so the points route
     # cannot lift them and must say so instead of deciding.
-    assert result["presentations"]["whitney"]["colength"] == 6
-    assert result["pairs"][0]["verdict"] == "agree"
+    assert result.presentations["whitney"].colength == 6
+    assert result.pairs[0].verdict == "agree"
 
 
 # ---------------------------------------------------------------------------------------
@@ -65,13 +65,13 @@ def test_same_seed_same_result_and_trials_use_distinct_primes():
     flag = parse_flag("Fl(1,2;4)")
     first = check_case(flag, families("whitney", "vieta"), seed=99, trials=2)
     second = check_case(flag, families("whitney", "vieta"), seed=99, trials=2)
-    first.pop("timings"), second.pop("timings")
+    first.timings = second.timings = {}
     assert first == second
-    primes = [t["prime"] for t in first["certificate"]["trials"]]
+    primes = [t.prime for t in first.certificate.trials]
     assert len(set(primes)) == 2 and all(sympy.isprime(p) for p in primes)
-    certificate = first["certificate"]
+    certificate = first.certificate
     for key in ("prime", "seed", "weights", "q_values", "q_line", "order", "method", "kind"):
-        assert key in certificate
+        assert getattr(certificate, key) is not None
 
 
 # ---------------------------------------------------------------------------------------
@@ -117,35 +117,35 @@ def test_mutants_verdict_matches_sympy(case, mutant):
     truth_equal = sympy_ideals_equal(flag, whitney.FAMILY, mutant_family(mutant), seed)
     result = check_case(flag, [whitney.FAMILY, mutant_family(mutant)], seed=seed,
                         prime=SMALL_PRIME)
-    pair = result["pairs"][0]
+    pair = result.pairs[0]
     if truth_equal:
-        assert pair["verdict"] == "agree", (mutant, pair)
+        assert pair.verdict == "agree", (mutant, pair)
         return
-    assert pair["verdict"] == "disagree", (mutant, pair)
+    assert pair.verdict == "disagree", (mutant, pair)
     # Every ideal witness is a relation of one that really is outside the other (SymPy).
     spec = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=SMALL_PRIME)
     built = {f.name: build_specialised(f, flag, spec) for f in (whitney.FAMILY, mutant_family(mutant))}
-    ideal_witnesses = [w for w in pair["witnesses"] if "normal_form" in w]
-    point_witnesses = [w for w in pair["witnesses"] if "fails_at_points" in w]
-    assert pair["exact"]
-    assert ideal_witnesses or point_witnesses or "colength" in pair["reason"]
+    ideal_witnesses = [w for w in pair.witnesses if w.normal_form is not None]
+    point_witnesses = [w for w in pair.witnesses if w.fails_at_points is not None]
+    assert pair.exact
+    assert ideal_witnesses or point_witnesses or "colength" in pair.reason
     for w in ideal_witnesses:
-        source, target = built[w["relation_of"]], built[w["not_in"]]
+        source, target = built[w.relation_of], built[w.not_in]
         names = target.ring.ctx.names()
         symbols = [sympy.Symbol(x) for x in names]
         basis = sympy.groebner([to_sympy(r.poly, names) for r in target.relations], *symbols,
                                modulus=SMALL_PRIME, order="grevlex")
-        relation = next(r for r in source.relations if r.label == w["relation"])
+        relation = next(r for r in source.relations if r.label == w.relation)
         assert not basis.contains(to_sympy(relation.poly, names))
 
 
 def test_q_mutant_fails_at_the_points_beyond_the_classical_order():
     result = check_case(parse_flag("Gr(2,4)"), [whitney.FAMILY, mutant_family("flipped-q-sign")],
                         seed=3)
-    failures = result["presentations"]["whitney-flipped-q-sign"]["failures"]
-    assert failures and all(f["lowest_power"] == 1 and not f["classical"] for f in failures)
-    assert result["presentations"]["whitney"]["holds"] is True
-    assert result["verdict"] == "disagree"
+    failures = result.presentations["whitney-flipped-q-sign"].failures
+    assert failures and all(f.lowest_power == 1 and not f.classical for f in failures)
+    assert result.presentations["whitney"].holds is True
+    assert result.verdict == "disagree"
 
 
 def test_toda_is_refused_for_a_partial_flag():

@@ -41,16 +41,16 @@ def test_perturbations_disagree_by_default_and_are_only_consistent_at_the_points
     perturbed = get_family(str(path))
     assert not sympy_equal(flag, whitney.FAMILY, perturbed, SEED)
     result = check_case(flag, [whitney.FAMILY, perturbed], seed=SEED, prime=SMALL_PRIME)
-    pair = result["pairs"][0]
-    assert result["verdict"] == pair["verdict"] == "disagree", pair
-    assert pair["exact"] and result["certificate"]["exact"]
-    assert result["presentations"][perturbed.name]["complete"] is False
+    pair = result.pairs[0]
+    assert result.verdict == pair.verdict == "disagree", pair
+    assert pair.exact and result.certificate.exact
+    assert result.presentations[perturbed.name].complete is False
     points_only = check_case(flag, [whitney.FAMILY, perturbed], seed=SEED, prime=SMALL_PRIME,
                              method="points", order=6)
-    pair = points_only["pairs"][0]
-    assert pair["verdict"] == "consistent" and pair["order"] == 6 and not pair["exact"]
-    assert "s^6" in pair["reason"] and "not proven" in pair["reason"]
-    assert points_only["verdict"] == "consistent" and not points_only["certificate"]["exact"]
+    pair = points_only.pairs[0]
+    assert pair.verdict == "consistent" and pair.order == 6 and not pair.exact
+    assert "s^6" in pair.reason and "not proven" in pair.reason
+    assert points_only.verdict == "consistent" and not points_only.certificate.exact
 
 
 def test_the_order_is_chosen_from_the_relations():
@@ -58,11 +58,11 @@ def test_the_order_is_chosen_from_the_relations():
     flag = parse_flag("Gr(2,4)")
     late = get_family(str(HERE / "perturbations" / "late-q.toml"))
     result = check_case(flag, [whitney.FAMILY, late], seed=SEED)
-    assert result["certificate"]["order"] == 11
-    assert result["certificate"]["order_source"] == "2 + largest q-degree"
-    assert result["pairs"][0]["method"] == "Bethe points"     # refuted without a basis
-    witness = result["pairs"][0]["witnesses"][0]["fails_at_points"]
-    assert witness["lowest_power"] == 8
+    assert result.certificate.order == 11
+    assert result.certificate.order_source == "2 + largest q-degree"
+    assert result.pairs[0].method == "Bethe points"     # refuted without a basis
+    witness = result.pairs[0].witnesses[0].fails_at_points
+    assert witness.lowest_power == 8
 
 
 @pytest.mark.parametrize("case", ["Gr(2,4)", "Fl(3)", "Fl(1,3;4)", "Fl(4)"])
@@ -72,12 +72,12 @@ def test_correct_presentations_in_other_generators_agree_exactly(case):
     if flag.is_complete:
         names.append("toda")
     result = check_case(flag, [get_family(n) for n in names], seed=SEED)
-    assert result["verdict"] == "agree", result["reason"]
-    assert result["certificate"]["exact"] and result["exact"]
-    assert all(p["verdict"] == "agree" and p["exact"] for p in result["pairs"])
-    for name, record in result["presentations"].items():
-        assert record["holds"] is True and record["complete"] is True, name
-        assert record["holds_evidence"].startswith(("exact", "by theorem")), name
+    assert result.verdict == "agree", result.reason
+    assert result.certificate.exact and result.exact
+    assert all(p.verdict == "agree" and p.exact for p in result.pairs)
+    for name, record in result.presentations.items():
+        assert record.holds is True and record.complete is True, name
+        assert record.holds_evidence.startswith(("exact", "by theorem")), name
 
 
 @pytest.mark.parametrize("case", ["Fl(3)", "Fl(4)", "Fl(5)"])
@@ -85,9 +85,9 @@ def test_toda_relations_hold_exactly_in_the_q_whitney_ring(case):
     # Confirms the index convention of the Toda relations independently of the Bethe
     # points: every relation reduces to 0 modulo q-Whitney at a random specialisation.
     result = check_case(parse_flag(case), [get_family("toda")], seed=SEED, method="groebner")
-    record = result["presentations"]["toda"]
-    assert record["holds"] is True and record["holds_evidence"].startswith("exact")
-    assert record["colength"] == parse_flag(case).rank and result["verdict"] == "agree"
+    record = result.presentations["toda"]
+    assert record.holds is True and record.holds_evidence.startswith("exact")
+    assert record.colength == parse_flag(case).rank and result.verdict == "agree"
 
 
 # ---------------------------------------------------------------------------------------
@@ -103,10 +103,10 @@ def test_plain_checks_decide(case):
                        equivariant=False)
     agree = check_case(flag, [whitney.FAMILY, vieta], seed=SEED, prime=SMALL_PRIME,
                        equivariant=False)
-    assert agree["verdict"] == "agree" and agree["exact"], agree["reason"]
+    assert agree.verdict == "agree" and agree.exact, agree.reason
     differ = check_case(flag, [whitney.FAMILY, late], seed=SEED, prime=SMALL_PRIME,
                         equivariant=False)
-    assert differ["verdict"] == "disagree" and differ["exact"], differ["reason"]
+    assert differ.verdict == "disagree" and differ.exact, differ.reason
 
 
 # ---------------------------------------------------------------------------------------
@@ -119,16 +119,17 @@ def _without_last_relation(flag, ring):
 def test_too_few_relations_have_infinite_colength_and_disagree():
     short = replace(whitney.FAMILY, name="whitney-short", relations=_without_last_relation)
     result = check_case(parse_flag("Gr(2,4)"), [whitney.FAMILY, short], seed=SEED)
-    record = result["presentations"]["whitney-short"]
-    assert record["colength"] == "infinite" and record["complete"] is False
-    pair = result["pairs"][0]
-    assert pair["verdict"] == "disagree" and "infinite" in pair["reason"]
-    assert "None" not in json.dumps(result)
+    record = result.presentations["whitney-short"]
+    assert record.colength == "infinite" and record.complete is False
+    pair = result.pairs[0]
+    assert pair.verdict == "disagree" and "infinite" in pair.reason
+    assert "None" not in json.dumps(result.to_json())
 
 
 def test_json_records_say_how_each_result_was_reached():
-    result = check_case(parse_flag("Gr(2,4)"), [whitney.FAMILY, get_family("vieta")], seed=SEED)
-    assert result["schema"] >= 2
+    result = check_case(parse_flag("Gr(2,4)"), [whitney.FAMILY, get_family("vieta")],
+                        seed=SEED).to_json()
+    assert result["schema"] >= 3
     for pair in result["pairs"]:
         assert {"exact", "method", "order", "verdict", "reason", "witnesses"} <= set(pair)
     for record in result["presentations"].values():
@@ -143,7 +144,7 @@ def test_trials_with_a_small_prime_use_distinct_primes_and_finish():
     assert primes[0] == 1000003 and len(set(primes)) == 3
     assert all(sympy.isprime(p) for p in primes)
     result = check_case(parse_flag("P1"), [whitney.FAMILY], seed=1, prime=1000003, trials=2)
-    assert result["verdict"] == "agree"
+    assert result.verdict == "agree"
 
 
 def test_exit_statuses():

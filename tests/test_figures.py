@@ -72,7 +72,7 @@ def test_png_size_content_and_metadata(rows, tmp_path):
         assert background == (255, 255, 255)
     text = stored_provenance(path)
     assert "produced by: ringmatch figure t" in text
-    assert str(rows[0]["result"]["certificate"]["prime"]) in text
+    assert str(rows[0]["result"].certificate.prime) in text
     assert "Fl(3) 9" in text and "layout: list" in text
     # the note printed under the plot is stored too: presentations, sizes, count
     assert "note: whitney, vieta | whitney, whitney-sign-error (equivariant)" in text
@@ -262,7 +262,7 @@ def test_bad_requests(rows, tmp_path):
 
 def test_cli_figure(rows, tmp_path):
     source = tmp_path / "results.json"
-    source.write_text(json.dumps([row["result"] for row in rows]))
+    source.write_text(json.dumps([row["result"].to_json() for row in rows]))
     out = tmp_path / "agreement.png"
     run = run_cli("figure", source, "--out", out)
     assert run.returncode == 0, run.stderr

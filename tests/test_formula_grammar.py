@@ -79,18 +79,18 @@ def test_witness_normal_forms_paste_back():
     the sign error first (§3), and their witness is a failing point, with no normal form."""
     families = [get_family("whitney"), get_family("whitney-sign-error")]
     by_points = check_case(parse_flag("Fl(1,2;3)"), families, seed=3)
-    assert by_points["verdict"] == "disagree"
-    assert all("fails_at_points" in w and "normal_form" not in w
-               for pair in by_points["pairs"] for w in pair["witnesses"])
+    assert by_points.verdict == "disagree"
+    assert all(w.fails_at_points is not None and w.normal_form is None
+               for pair in by_points.pairs for w in pair.witnesses)
     result = check_case(parse_flag("Fl(1,2;3)"), families, seed=3, method="groebner")
-    assert result["verdict"] == "disagree"
-    witnesses = [w for pair in result["pairs"] for w in pair["witnesses"] if "normal_form" in w]
+    assert result.verdict == "disagree"
+    witnesses = [w for pair in result.pairs for w in pair.witnesses if w.normal_form]
     assert witnesses
-    assert all(w["relation_of"] == "whitney-sign-error" and w["not_in"] == "whitney"
+    assert all(w.relation_of == "whitney-sign-error" and w.not_in == "whitney"
                for w in witnesses)
     presentation = build_symbolic(get_family("whitney"), parse_flag("Fl(1,2;3)"))
     generators = [(g.name, g.meaning.text) for g in presentation.generators]
-    texts = [w["normal_form"] for w in witnesses]
+    texts = [w.normal_form for w in witnesses]
     assert not any("**" in text for text in texts)
     for text, pasted in zip(texts, read_back("Fl(1,2;3)", generators, texts)):
         # printing the pasted polynomial again gives the same text: nothing was lost

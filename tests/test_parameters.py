@@ -175,7 +175,7 @@ def test_coulomb_levels_at_level_zero_is_vieta(case):
     assert [str(r.poly) for r in ours.relations] == [str(r.poly) for r in theirs.relations]
     assert ours.ring.ctx.names() == theirs.ring.ctx.names()
     result = check_case(flag, [FAMILIES["vieta"], get_family("coulomb-levels")], seed=3)
-    assert result["verdict"] == "agree"
+    assert result.verdict == "agree"
 
 
 def hand_count(n: int, a: int, b: int) -> int:
@@ -195,23 +195,23 @@ def test_coulomb_levels_count_the_solutions_by_hand(case, n):
         for b in range(-3, 4):
             family = get_family("coulomb-levels", {"a": a, "b": b})
             result = check_case(flag, [FAMILIES["whitney"], family], seed=5)
-            report = result["presentations"][family.name]
+            report = result.presentations[family.name]
             # the scan's colengths (scan --colengths), at the check's specialisation
-            certificate = result["certificate"]
-            counted = colengths_at(family, flag, seed=certificate["seed"],
-                                   prime=certificate["prime"], equivariant=True)
+            certificate = result.certificate
+            counted = colengths_at(family, flag, seed=certificate.seed,
+                                   prime=certificate.prime, equivariant=True)
             assert counted["colength"] == hand_count(n, a, b), (a, b)
             # at q = 0 every level is ∏ (x − T_j) = 0 (times a power of the unit x)
             assert counted["classical_colength"] == n, (a, b)
             # the check computes the colength itself unless the Bethe points refute the
             # presentation (then it computes no Gröbner basis for it)
-            if report["colength"] is None:
-                assert report["holds"] is False and report["failures"], (a, b)
-                assert result["verdict"] == "disagree", (a, b)
+            if report.colength is None:
+                assert report.holds is False and report.failures, (a, b)
+                assert result.verdict == "disagree", (a, b)
             else:
-                assert report["colength"] == counted["colength"], (a, b)
+                assert report.colength == counted["colength"], (a, b)
             # the same equation as level 0 exactly when a + b = 0 (det S_1 = x)
-            assert (result["verdict"] == "agree") == (a + b == 0), (a, b, result["reason"])
+            assert (result.verdict == "agree") == (a + b == 0), (a, b, result.reason)
 
 
 # ---------------------------------------------------------------------------------------
@@ -254,7 +254,7 @@ def test_whitney_unknowns_agreement_matches_sympy(case):
         for power in range(0, 4):
             family = get_family("whitney-unknowns", {"sign": sign, "power": power})
             same = sympy_basis(family, flag, keep, residues) == reference
-            verdict = check_case(flag, [FAMILIES["whitney"], family], seed=2)["verdict"]
+            verdict = check_case(flag, [FAMILIES["whitney"], family], seed=2).verdict
             assert (verdict == "agree") == same, (sign, power)
             assert same == (sign == 1 and power == 1), (sign, power)
 
@@ -272,7 +272,7 @@ def test_coulomb_levels_agreement_matches_sympy(case, levels):
     for a, b in levels:
         family = get_family("coulomb-levels", {"a": a, "b": b})
         same = sympy_basis(family, flag, keep, residues) == reference
-        verdict = check_case(flag, [FAMILIES["whitney"], family], seed=2)["verdict"]
+        verdict = check_case(flag, [FAMILIES["whitney"], family], seed=2).verdict
         assert (verdict == "agree") == same, (a, b)
 
 

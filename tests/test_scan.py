@@ -102,18 +102,18 @@ def test_colengths_of_refuted_points_are_the_scans_own(monkeypatch):
     point = plan.points[0]
     result = run_case(plan.task(flag, point, "auto"))
     name = plan.family_name(point)
-    assert result["verdict"] == "disagree" and result["presentations"][name]["colength"] is None
+    assert result.verdict == "disagree" and result.presentations[name].colength is None
     assert scan.refuted_at_points(plan, point, result)
     full = scan.with_colengths(plan, flag, point, result, Limits())
-    assert full["presentations"][name]["colength"] == 3          # hand count: 2 − (−1)
-    assert full["presentations"][name]["classical_colength"] == 2
-    assert "by the scan" in full["presentations"][name]["colength_method"]
-    assert full["verdict"] == "disagree"
+    assert full.presentations[name].colength == 3          # hand count: 2 − (−1)
+    assert full.presentations[name].classical_colength == 2
+    assert "by the scan" in full.presentations[name].colength_method
+    assert full.verdict == "disagree"
     original = scan.colengths_at
     monkeypatch.setattr(scan, "colengths_at",
                         lambda *a, **k: (time.sleep(30), original(*a, **k))[1])
     stopped = scan.with_colengths(plan, flag, point, result, Limits(seconds=0.5))
-    assert stopped["presentations"][name]["colength"] is None
+    assert stopped.presentations[name].colength is None
     record = scan.point_record(plan, flag, point, stopped, True, 0.0)
     assert record["colengths_note"] == ("colengths not computed: limit: took longer than "
                                         "--case-timeout 0.5 s")

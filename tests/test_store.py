@@ -1,22 +1,25 @@
 """The results store of sweeps (compare/store.py): schema, keys, order, transactions."""
+import json
 import os
 import sqlite3
 import subprocess
 import sys
 import textwrap
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 
 from ringmatch.compare import store
 from ringmatch.compare.engine import check_case
+from ringmatch.compare.records import CaseResult
 from ringmatch.presentations import get_family
 from ringmatch.presentations.flagtype import parse_flag
 
 ROOT = Path(__file__).resolve().parent.parent
 
 
-def real_result(case: str, names=("whitney", "vieta"), seed: int = 5) -> dict:
+def real_result(case: str, names=("whitney", "vieta"), seed: int = 5) -> CaseResult:
     return check_case(parse_flag(case), [get_family(n) for n in names], seed=seed)
 
 
@@ -47,7 +50,7 @@ def test_rows_come_back_in_sweep_order_with_the_contract_fields(tmp_path, result
     assert fl3["n"] == 3 and fl3["rank"] == 6 and fl3["dims"] == [1, 2]
     assert fl3["kind"] == "complete" and rows[0]["kind"] == "grassmannian"
     assert fl3["presentations"] == ["whitney", "vieta"]
-    assert fl3["verdict"] == results["Fl(3)"]["verdict"] == "agree"
+    assert fl3["verdict"] == results["Fl(3)"].verdict == "agree"
     assert fl3["result"] == results["Fl(3)"]
     assert fl3["settings"] == settings and fl3["seconds"] == 0.5
     assert fl3["run"]["command"] == "test" and "python-flint" in fl3["run"]["versions"]
@@ -126,7 +129,7 @@ def test_a_process_killed_inside_the_transaction_leaves_no_row(tmp_path, results
 
 def test_ranks_beyond_64_bits_are_stored_and_read_back(tmp_path, results):
     """Fl(21) has 21! ≈ 5.1e19 fixed points, more than an SQLite integer holds."""
-    big = dict(results["P1"], case="Fl(21)", rank=parse_flag("Fl(21)").rank)
+    big = replace(results["P1"], case="Fl(21)", rank=parse_flag("Fl(21)").rank)
     settings = store.sweep_settings(["whitney"])
     conn = store.open_store(tmp_path / "s.db")
     store.save_result(conn, settings, big, 1.0)
@@ -140,6 +143,8 @@ def test_ranks_beyond_64_bits_are_stored_and_read_back(tmp_path, results):
     ("UPDATE results SET result = '{\"verdict\": \"inconclusive\"}'", "no certificate"),
     ("UPDATE results SET result = 'null'", "no certificate"),
     ("UPDATE results SET dims = '[1,'", "JSONDecodeError"),
+    ("UPDATE results SET result = '{\"case\": \"P1\", \"verdict\": \"agree\", "
+     "\"certificate\": {}, \"pairs\": 5}'", "not readable: the pairs of P1 is not a JSON list"),
 ])
 def test_a_damaged_row_is_named_with_file_and_row(tmp_path, results, damage, fragment):
     path = tmp_path / "s.db"
@@ -155,6 +160,25 @@ def test_a_damaged_row_is_named_with_file_and_row(tmp_path, results, damage, fra
     assert str(path) in message and "row 1 (case 'P1')" in message and fragment in message
     with pytest.raises(store.StoreError, match="row 1"):
         store.load_results(path)
+
+
+def test_results_of_schema_version_2_are_read(tmp_path, results):
+    """Stores written before the typed results (schema 2: witnesses of two shapes, undecided
+    cases without schema and exact) are read into the records of today's schema."""
+    path = tmp_path / "s.db"
+    settings = store.sweep_settings(["whitney", "vieta"])
+    conn = store.open_store(path)
+    store.save_result(conn, settings, results["P1"], 1.0)
+    old = json.loads((ROOT / "tests/schema2/check-points-witness.json").read_text())
+    with conn:
+        conn.execute("UPDATE results SET result = ?", (json.dumps(old),))
+    row = store.stored_rows(conn, settings)["P1"]
+    conn.close()
+    assert isinstance(row["result"], CaseResult) and row["result"] == CaseResult.from_json(old)
+    witness = row["result"].pairs[0].witnesses[0]
+    assert witness.fails_at_points.lowest_power == 1 and witness.kind == \
+        "fails at the Bethe points"
+    assert store.load_results(path)[0]["result"].to_json()["schema"] == 3
 
 
 def test_a_schema_version_that_is_not_a_number_is_refused(tmp_path):

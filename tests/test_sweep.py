@@ -24,9 +24,11 @@ from conftest import run_in_process
 ROOT = Path(__file__).resolve().parent.parent
 
 
-def comparable(result: dict) -> dict:
-    """A result without its wall-clock timings, which differ from run to run."""
-    return {k: v for k, v in result.items() if k != "timings"}
+def comparable(result) -> dict:
+    """A result (a CaseResult or its JSON) without its wall-clock timings, which differ
+    from run to run."""
+    data = result if isinstance(result, dict) else result.to_json()
+    return {k: v for k, v in data.items() if k != "timings"}
 
 
 def plan(cases: str, names=("whitney", "vieta"), seed=0):
@@ -92,9 +94,9 @@ def test_sweep_stores_each_case_and_a_second_run_computes_nothing(tmp_path):
     assert first.computed and sorted(first.computed) == sorted(f.name for f in p.flags)
     assert first.counts() == {"agree": 4}
     for result in first.ordered_results():
-        certificate = result["certificate"]
-        assert certificate["sweep_seed"] == 0
-        assert certificate["seed"] == case_seed(0, parse_flag(result["case"]))
+        certificate = result.certificate
+        assert certificate.sweep_seed == 0
+        assert certificate.seed == case_seed(0, parse_flag(result.case))
     again = sweep.run_sweep(p, tmp_path / "s.db", workers=2)
     assert again.computed == [] and len(again.from_store) == 4
     assert [comparable(r) for r in again.ordered_results()] == \
@@ -112,8 +114,8 @@ def test_stop_at_first_counterexample_is_the_smallest_one(tmp_path):
                          order=6, trials=1, method="auto")
     outcome = sweep.run_sweep(p, tmp_path / "s.db", workers=2, stop_at_first=True)
     assert outcome.first_counterexample == "Fl(3)"
-    assert [r["case"] for r in outcome.ordered_results()] == ["P1", "P2", "Gr(2;3)", "Fl(3)"]
-    assert [r["verdict"] for r in outcome.ordered_results()] == ["agree"] * 3 + ["disagree"]
+    assert [r.case for r in outcome.ordered_results()] == ["P1", "P2", "Gr(2;3)", "Fl(3)"]
+    assert [r.verdict for r in outcome.ordered_results()] == ["agree"] * 3 + ["disagree"]
     assert len(outcome.not_run) == len(p.flags) - 4
     lines = sweep_text.witness_lines(outcome.results["Fl(3)"])
     assert lines and "whitney-sign-error" in lines[0]
@@ -135,15 +137,15 @@ def test_a_case_over_the_time_limit_is_inconclusive_and_the_sweep_goes_on(tmp_pa
     limits = Limits(seconds=0.02)
     outcome = sweep.run_sweep(p, tmp_path / "s.db", workers=1, limits=limits)
     fl4 = outcome.results["Fl(4)"]   # about a second of Gröbner bases
-    assert fl4["verdict"] == "inconclusive"
-    assert fl4["reason"] == "limit: took longer than --case-timeout 0.02 s"
+    assert fl4.verdict == "inconclusive"
+    assert fl4.reason == "limit: took longer than --case-timeout 0.02 s"
     assert len(outcome.results) == 2
     rows = store.load_results(tmp_path / "s.db")
     assert [r["reason"].startswith("limit:") for r in rows if r["case"] == "Fl(4)"] == [True]
     # same limits: not computed again; other limits: computed again
     assert sweep.run_sweep(p, tmp_path / "s.db", limits=limits).computed == []
     relaxed = sweep.run_sweep(p, tmp_path / "s.db", limits=Limits(seconds=600))
-    assert "Fl(4)" in relaxed.computed and relaxed.results["Fl(4)"]["verdict"] == "agree"
+    assert "Fl(4)" in relaxed.computed and relaxed.results["Fl(4)"].verdict == "agree"
 
 
 def test_a_case_over_the_memory_limit_is_inconclusive(tmp_path):
@@ -277,8 +279,8 @@ def test_json_output_has_cases_first_counterexample_and_counts(tmp_path):
     assert [r["case"] for r in report["cases"]] == ["P1", "Gr(2;4)"]
     assert report["first_counterexample"] is None
     assert report["counts"] == {"agree": 2}
-    assert set(report["cases"][0]) >= {"case", "rank", "verdict", "reason", "certificate",
-                                       "presentations", "pairs", "timings"}
+    assert set(report["cases"][0]) >= {"schema", "case", "rank", "verdict", "reason",
+                                       "certificate", "presentations", "pairs", "timings"}
 
 
 def test_stop_at_first_prints_the_witness(tmp_path):
@@ -357,8 +359,8 @@ def test_a_crashed_worker_is_recorded_as_such_and_retried_a_bounded_number_of_ti
     reasons = []
     for _ in range(sweep.FAILED_ATTEMPTS + 1):
         outcome = sweep.run_sweep(p, path, limits=limits)
-        reasons.append(outcome.results["P1"]["reason"])
-        assert outcome.results["P1"]["verdict"] == "inconclusive"
+        reasons.append(outcome.results["P1"].reason)
+        assert outcome.results["P1"].verdict == "inconclusive"
     assert reasons[0].startswith("crashed: worker ended with signal SIGSEGV without a result")
     assert "out of memory" not in reasons[0]
     assert "failed 3 times" in reasons[2] and sweep.RETRY_OPTION in reasons[2]
@@ -366,7 +368,7 @@ def test_a_crashed_worker_is_recorded_as_such_and_retried_a_bounded_number_of_ti
     assert sweep.run_sweep(p, path, limits=limits).computed == []
     assert sweep.run_sweep(p, path, limits=limits, retry_failed=True).computed == ["P1"]
     monkeypatch.undo()
-    assert sweep.run_sweep(p, path, retry_failed=True).results["P1"]["verdict"] == "agree"
+    assert sweep.run_sweep(p, path, retry_failed=True).results["P1"].verdict == "agree"
 
 
 def test_a_store_in_use_by_a_live_sweep_is_refused_and_a_dead_ones_mark_taken_over(tmp_path):

@@ -47,7 +47,7 @@ def rows():
 @pytest.fixture(scope="module")
 def results_file(rows, tmp_path_factory):
     path = tmp_path_factory.mktemp("results") / "results.json"
-    path.write_text(json.dumps([row["result"] for row in rows]))
+    path.write_text(json.dumps([row["result"].to_json() for row in rows]))
     return path
 
 
@@ -161,7 +161,7 @@ def test_latex_short_and_long_forms(rows):
     long = latex_table(build_table(many, options), options)
     assert r"\begin{longtable}" in long and r"\endhead" in long
     provenance = [line for line in long.splitlines() if line.startswith("% primes:")]
-    assert provenance and str(rows[0]["result"]["certificate"]["prime"]) in provenance[0]
+    assert provenance and str(rows[0]["result"].certificate.prime) in provenance[0]
     assert long.rstrip().splitlines()[-1].startswith("% ")   # the block is under the table
 
 
@@ -344,12 +344,11 @@ def test_through_a_real_store(rows, tmp_path):
     conn = store.open_store(path)
     for row in rows:
         result = row["result"]
-        wanted = {"presentations": list(result["presentations"]),
-                  "equivariant": result["equivariant"],
-                  "seed": result["certificate"]["seed"], "prime": result["certificate"]["prime"],
-                  "order": result["certificate"]["order"],
-                  "trials": len(result["certificate"]["trials"]),
-                  "method": result["certificate"]["method"]}
+        wanted = {"presentations": result.names, "equivariant": result.equivariant,
+                  "seed": result.certificate.seed, "prime": result.certificate.prime,
+                  "order": result.certificate.order,
+                  "trials": len(result.certificate.trials),
+                  "method": result.certificate.method}
         parameters = inspect.signature(store.sweep_settings).parameters
         try:
             settings = store.sweep_settings(**{k: v for k, v in wanted.items()
@@ -381,10 +380,10 @@ def store_of(rows, path):
     for row in rows:
         result = row["result"]
         settings = store.sweep_settings(
-            list(result["presentations"]), equivariant=result["equivariant"],
-            seed=result["certificate"]["seed"], prime=result["certificate"]["prime"],
-            order=result["certificate"]["order"], trials=len(result["certificate"]["trials"]),
-            method=result["certificate"]["method"])
+            result.names, equivariant=result.equivariant,
+            seed=result.certificate.seed, prime=result.certificate.prime,
+            order=result.certificate.order, trials=len(result.certificate.trials),
+            method=result.certificate.method)
         store.save_result(conn, settings, result, row["seconds"])
     conn.close()
     return path
