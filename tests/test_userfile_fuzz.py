@@ -266,12 +266,31 @@ HOSTILE = {
     "a loop of units": ("", '[[relations]]\nexpr = "S1_1"\n[[units]]\nfor = "a = 1..1000"\n'
                             'expr = "S1_1 + a"\n', "more than 32 declared units"),
     "a huge literal": ("", '[[relations]]\nexpr = "S1_1 - 10^4300"\n', "14000 bits"),
+    # 10^4300 has 14 285 bits: an integer power is checked after it is taken, so no integer
+    # of a file passes 14 000 bits, and every one can be printed (Python: 4 300 digits)
     "a huge colength": ('expected_colength = "10^4300"', '[[relations]]\nexpr = "S1_1"\n',
-                        "expected_colength is larger than"),
+                        "a number exceeds 14000 bits"),
+    "a large colength": ('expected_colength = "10^4000"', '[[relations]]\nexpr = "S1_1"\n',
+                         "expected_colength is larger than"),
     "a huge TOML integer": ("expected_colength = 1" + "0" * 4400, '[[relations]]\nexpr = "S1_1"\n',
                             "integer with more than 40 digits"),
     "a huge label hole": ("", '[[relations]]\nlabel = "x{10^4300}"\nexpr = "S1_1"\n',
-                          "a hole {…} evaluates to a number larger than"),
+                          "a number exceeds 14000 bits"),
+    "a large label hole": ("", '[[relations]]\nlabel = "x{10^4000}"\nexpr = "S1_1"\n',
+                           "a hole {…} evaluates to a number larger than"),
+    "a huge range": ("", '[[relations]]\nfor = "r = 1..10^4300"\nexpr = "S1_1"\n',
+                     "a number exceeds 14000 bits"),
+    # a message names a long number by its first digits and length, never whole
+    "a long range": ("", '[[relations]]\nfor = "r = 1..10^4000"\nexpr = "S1_1"\n',
+                     "range 1..100000000000…(4001 digits) is too long"),
+    # taking coefficients of y is a pass in Python over every term: counted as arithmetic
+    "a loop of coefficients": ("", '[[relations]]\nfor = "r = 1..3000"\nexpr = "[y^0]((1+y+T_1+'
+                                   'T_2+T_3+T_4)^4 * (1+S1_1+S1_2+q_1+T_1*T_2+T_3*T_4+T_1*T_3)^4)"\n',
+                               "too much arithmetic"),
+    # every relation within its limits, 5 000 of them would keep about 10^8 terms (gigabytes)
+    "a loop of large relations": ("", '[[relations]]\nfor = "r = 1..5000"\nexpr = "(1+T_1+T_2+'
+                                      'T_3+T_4+q_1)^5 * (1+S1_1+S1_2)^7"\n',
+                                  "take more than 200000 terms together"),
 }
 
 
@@ -303,6 +322,66 @@ def test_many_identical_strings_parse_in_linear_time():
         assert "more than 5000 relations" in str(error)
     else:
         raise AssertionError("no error")
+
+
+def test_many_entries_with_a_quoted_key_parse_in_linear_time():
+    """A key written in quotes ("weight" = 1) is not found by the key search, which then read
+    the rest of the file for every entry (5 700 entries: 10 s); key positions are now found
+    once per key."""
+    entry = '{name="w",meaning="lambda_1(S_1)","weight"=1}'
+    count = (256 * 1024 - 200) // (len(entry) + 1)
+    text = HOSTILE_HEAD.format(top='relations = ["1"]\ngenerators = [' +
+                               ",".join([entry] * count) + "]").split("[[generators]]")[0]
+    try:
+        family_from_text(text, LABEL).relations(SMALL_CASES[2], None)
+    except PresentationFileError as error:
+        check_clean_error(error)
+        assert "duplicate generator 'w'" in str(error) and error.line == 6
+    else:
+        raise AssertionError("no error")
+
+
+def _random_polynomial(rng, names, terms: int, degree: int) -> str:
+    out = []
+    for _ in range(terms):
+        powers = {}
+        for _ in range(rng.randint(degree // 2, degree)):
+            name = rng.choice(names)
+            powers[name] = powers.get(name, 0) + 1
+        out.append(f"{rng.randint(1, 999)}*" + "*".join(f"{v}^{e}" for v, e in powers.items()))
+    return "(" + " + ".join(out) + ")"
+
+
+def test_units_are_recognised_by_gcds_not_by_factoring():
+    """A declared unit was factored, and so was every divisor: a product of two random
+    20-term polynomials of degree 60 took seconds (in 16 variables a minute), 32 such units
+    over a minute, none of it counted or stoppable.  Now a divisor is a unit when dividing
+    out its gcds with T_j, 1 − q_i and the declared units leaves a number."""
+    import random
+    rng = random.Random(5)
+    names = ["S1_1", "S2_1", "S2_2", "S3_1", "S3_2", "S3_3", "T_1", "T_2", "T_3", "T_4"]
+    a = _random_polynomial(rng, names, 20, 60)
+    b = _random_polynomial(rng, names, 20, 60)
+    c = _random_polynomial(rng, names, 20, 30)
+    fl4 = SMALL_CASES[4]
+    units = "".join(f'[[units]]\nexpr = "{a}*{b}*S2_2^2"\n' for _ in range(2))
+    good = HOSTILE_HEAD.format(top="") + units + \
+        f'[[relations]]\nexpr = "S1_1 / ({b} * S2_2^3 * T_1 * (1 - q_2)^2) + S2_1 / {a}"\n'
+    family = family_from_text(good, LABEL)
+    presentation = build_specialised(family, fl4, SPECS[fl4])
+    assert len(presentation.relations) == 1 and len(presentation.units) == 2
+    for divisor, named in ((f"{a} * {c}", "the factor"), (f"{a} * q_2", "the factor q2"),
+                           (f"(1 + q_1) * {b}", "the factor q1 + 1")):
+        bad = HOSTILE_HEAD.format(top="") + units + \
+            f'[[relations]]\nexpr = "S1_1 / ({divisor})"\n'
+        try:
+            build_specialised(family_from_text(bad, LABEL), fl4, SPECS[fl4])
+        except PresentationFileError as error:
+            check_clean_error(error)
+            assert "division by a non-unit" in str(error) and named in str(error), str(error)
+            assert len(str(error)) < 300
+        else:
+            raise AssertionError(f"{divisor}: no error")
 
 
 def test_huge_integers_on_the_command_line_are_one_line(tmp_path):

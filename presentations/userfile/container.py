@@ -11,6 +11,7 @@ and column in the file.
 """
 from __future__ import annotations
 
+import bisect
 import re
 import sys
 from dataclasses import dataclass
@@ -122,6 +123,11 @@ class StringLocator:
     # then constant time (a file of many identical strings must not parse in quadratic time)
     by_value: Dict[str, List[int]] = None
     next_unused: Dict[str, int] = None
+    # where each table opens ('[[' or '{'), and where each key searched for so far stands
+    # followed by '=': sorted offsets, searched by bisection (not by scanning the text again
+    # for every entry, which made many entries parse in quadratic time)
+    openings: Tuple[List[int], List[int]] = None
+    key_offsets: Dict[str, List[int]] = None
 
     @staticmethod
     def scan(file: str, text: str) -> "StringLocator":
@@ -131,8 +137,10 @@ class StringLocator:
         by_value: Dict[str, List[int]] = {}
         for index, (decoded, _, _) in enumerate(literals):
             by_value.setdefault(decoded, []).append(index)
+        openings = ([m.start() for m in re.finditer(r"(?=\[\[)", text)],
+                    [m.start() for m in re.finditer(r"\{", text)])
         return StringLocator(file, text, lines, literals, [False] * len(literals), whole,
-                             by_value, {})
+                             by_value, {}, openings, {})
 
     def _first_unused(self, value: str) -> Optional[int]:
         indices = self.by_value.get(value)
@@ -160,15 +168,23 @@ class StringLocator:
                 if index is None:
                     return None
                 start = self.literals[index][2]
-                return max(self.text.rfind("[[", 0, start), self.text.rfind("{", 0, start))
+                # the last '[[' or '{' that ends before the value
+                brackets, braces = self.openings
+                last = bisect.bisect_right(brackets, start - 2)
+                last_brace = bisect.bisect_right(braces, start - 1)
+                return max(brackets[last - 1] if last else -1,
+                           braces[last_brace - 1] if last_brace else -1)
         return None
 
     def key_in_table(self, key: str, start: Optional[int], fallback: Loc) -> Loc:
         if start is None or start < 0:
             return fallback
-        pattern = re.compile(rf"(?<![A-Za-z0-9_\-\"']){re.escape(key)}[ \t]*=")
-        match = pattern.search(self.text, start)
-        return Loc(self.whole, match.start()) if match else fallback
+        offsets = self.key_offsets.get(key)
+        if offsets is None:
+            pattern = re.compile(rf"(?<![A-Za-z0-9_\-\"']){re.escape(key)}[ \t]*=")
+            offsets = self.key_offsets[key] = [m.start() for m in pattern.finditer(self.text)]
+        index = bisect.bisect_left(offsets, start)
+        return Loc(self.whole, offsets[index]) if index < len(offsets) else fallback
 
     def key(self, path: str) -> Loc:
         """Where a key (the last part of a dotted path) or table header first appears."""

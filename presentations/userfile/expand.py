@@ -40,10 +40,18 @@ MAX_STEPS = 300_000           # evaluation steps (syntax-tree nodes and loop rou
 # the size of their coefficients in 64-bit words, plus the terms of additions.  Each step
 # within its own limits can still add up to minutes and gigabytes over a loop.
 MAX_TOTAL_WORK = 30_000_000
+# A pass over a polynomial's terms in Python (taking coefficients of y, measuring coefficient
+# sizes) costs about as much as this many term operations of FLINT's arithmetic.
+PYTHON_TERM_WORK = 100
+# What an expansion keeps: the terms of all relations and units together, each counted in
+# 64-bit words of its largest coefficient (one word for small ones).  Every relation within
+# its own limits, repeated by a loop, must not fill the memory (the shipped q-Whitney file
+# keeps 8 595 terms for Fl(12), the largest flag type its intermediate polynomials allow).
+MAX_KEPT_WORDS = 200_000
 MAX_GENERATORS = 2_000
 MAX_RELATIONS = 5_000
 MAX_UNITS = 32                # each declared unit becomes an inverse variable in the engine
-MAX_DIVISOR_TERMS = 400       # a divisor is factored to check that it is a unit
+MAX_DIVISOR_TERMS = 400       # a divisor is checked to be a unit (by gcds with the units)
 MAX_SHOWN_INTEGER = 10**18    # template holes and expected_colength
 
 GENERATOR_NAME = re.compile(r"([A-Za-z][A-Za-z0-9]*)((?:_[0-9]+)*)")
@@ -82,11 +90,16 @@ class _State:
     ctx: object = None
     gen_index: Dict[str, int] = field(default_factory=dict)
     by_meaning: Dict[Meaning, str] = field(default_factory=dict)
-    unit_keys: Set[str] = field(default_factory=set)
-    factor_cache: Dict[str, Optional[str]] = field(default_factory=dict)
+    # the units: variables (T_j, and those dividing a declared unit), and polynomials without
+    # monomial factors (1 − q_i, the declared units' other parts) with their coefficient
+    # sizes in 64-bit words; a divisor is a unit when gcds with these leave a number
+    unit_vars: Set[int] = field(default_factory=set)
+    unit_polys: List[Tuple[object, int]] = field(default_factory=list)
+    unit_cache: Dict[str, Optional[str]] = field(default_factory=dict)
     cache: Dict[tuple, List[Value]] = field(default_factory=dict)
     steps: int = 0
     work: int = 0
+    kept: int = 0
     y_index: int = -1
     params: Dict[str, object] = field(default_factory=dict)     # name → ParameterDecl
     values: Dict[str, int] = field(default_factory=dict)        # "a" or "a_2" → value
@@ -129,9 +142,8 @@ def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = No
     st.y_index = len(names) - 1
     st.gen_index = {g.name: index for index, g in enumerate(generators)}
     gens = st.ctx.gens()
-    st.unit_keys = {_monic_key(gens[len(generators) + j - 1]) for j in range(1, flag.n + 1)}
-    st.unit_keys |= {_monic_key(gens[len(generators) + flag.n + i - 1] - 1)
-                     for i in range(1, flag.m + 1)}
+    st.unit_vars = {len(generators) + j - 1 for j in range(1, flag.n + 1)}
+    st.unit_polys = [(1 - gens[len(generators) + flag.n + i - 1], 1) for i in range(1, flag.m + 1)]
     units = _expand_units(spec, st)
     relations = _expand_relations(spec, st)
     return Expanded(spec.file, flag, st.ctx, tuple(generators), tuple(relations), tuple(units),
@@ -252,9 +264,9 @@ def _expand_units(spec: FileSpec, st: _State) -> List[object]:
             fail(decl.expr.at, "a declared unit cannot contain y")
         if len(value.num) > MAX_DIVISOR_TERMS:
             fail(decl.expr.at, f"a declared unit has more than {MAX_DIVISOR_TERMS} terms")
+        _keep(value.num, decl.expr.at, st)
         if not value.num.is_constant():
-            for factor, _ in value.num.factor()[1]:
-                st.unit_keys.add(_monic_key(factor))
+            _add_unit(value.num, decl.expr.at, st)
         out.append(value.num)
     return out
 
@@ -268,6 +280,7 @@ def _expand_relations(spec: FileSpec, st: _State) -> List[Tuple[str, object]]:
             if value.num.degrees()[st.y_index] > 0:
                 fail(decl.expr.at, "the relation still contains y: take coefficients with "
                                    "coefficients = \"j = a..b\" or [y^j](…)")
+            _keep(value.num, decl.expr.at, st)
             out.append((_label(decl.label, env, st, number), value.num))
         else:
             out += _coefficient_relations(decl, env, st, number)
@@ -286,12 +299,14 @@ def _coefficient_relations(decl: RelationDecl, env: dict, st: _State, number: in
     high = _integer(binding.high, env, st, "a range bound")
     _check_range(low, high, binding.at, st)
     value = _as_frac(_eval(decl.expr, {**env, binding.var: _Blocked}, st), st, decl.expr.at)
-    by_power = _split_by_y(value.num, st)
+    by_power = _split_by_y(value.num, st, decl.expr.at)
     out = []
     for power in range(low, high + 1):
         _step(st, binding.at)
         bound = {**env, binding.var: power}
-        out.append((_label(decl.label, bound, st, number), by_power.get(power, st.ctx.constant(0))))
+        poly = by_power.get(power, st.ctx.constant(0))
+        _keep(poly, decl.expr.at, st)
+        out.append((_label(decl.label, bound, st, number), poly))
     return out
 
 
@@ -479,14 +494,16 @@ def _coefficient(node: Coefficient, env: dict, st: _State) -> Value:
     value = _eval(node.arg, env, st)
     if isinstance(value, int):
         return value if power == 0 else 0
-    return Frac(_split_by_y(value.num, st).get(power, st.ctx.constant(0)), value.den, value.bits)
+    return Frac(_split_by_y(value.num, st, node.at).get(power, st.ctx.constant(0)), value.den,
+                value.bits)
 
 
-def _split_by_y(poly, st: _State) -> Dict[int, object]:
+def _split_by_y(poly, st: _State, at: Loc) -> Dict[int, object]:
     if poly.is_zero():
         return {}
     if poly.degrees()[st.y_index] <= 0:
         return {0: poly}
+    _spend(st, len(poly) * PYTHON_TERM_WORK, at)
     groups: Dict[int, dict] = {}
     for exponents, c in zip(poly.monoms(), poly.coeffs()):
         power = exponents[st.y_index]
@@ -641,18 +658,28 @@ def _rational(numerator: int, denominator: int, st: _State, at: Loc) -> Frac:
                 numerator.bit_length() + denominator.bit_length())
 
 
-def _height(poly) -> int:
+def _height(poly, st: Optional[_State] = None, at: Optional[Loc] = None) -> int:
+    if st is not None:
+        _spend(st, len(poly) * PYTHON_TERM_WORK, at)
     return max((int(c.p).bit_length() + int(c.q).bit_length() for c in poly.coeffs()), default=0)
 
 
-def _checked(value: Frac, at: Loc) -> Frac:
+def _keep(poly, at: Loc, st: _State) -> None:
+    """Count a finished relation or unit against what one expansion may keep."""
+    st.kept += len(poly) * (1 + _height(poly, st, at) // 64)
+    if st.kept > MAX_KEPT_WORDS:
+        fail(at, f"the relations and units take more than {MAX_KEPT_WORDS} terms together "
+                 "(a term with a coefficient of more than 64 bits counting once per 64 bits)")
+
+
+def _checked(value: Frac, at: Loc, st: Optional[_State] = None) -> Frac:
     for poly in (value.num, value.den):
         if len(poly) > MAX_TERMS:
             fail(at, f"expansion exceeds {MAX_TERMS} terms")
         if int(poly.total_degree()) > MAX_DEGREE:
             fail(at, f"degree exceeds {MAX_DEGREE}")
     if value.bits > MAX_COEFFICIENT_BITS:
-        actual = max(_height(value.num), _height(value.den))
+        actual = max(_height(value.num, st, at), _height(value.den, st, at))
         if actual > MAX_COEFFICIENT_BITS:
             fail(at, f"coefficients exceed {MAX_COEFFICIENT_BITS} bits")
         value = replace(value, bits=actual)
@@ -687,15 +714,15 @@ def _add(a: Value, b: Value, sign: int, at: Loc, st: _State) -> Value:
     _spend(st, len(a.num) + len(b.num), at)
     if a.den == b.den:
         num = a.num + b.num if sign > 0 else a.num - b.num
-        return _checked(Frac(num, a.den, max(a.bits, b.bits) + 1), at)
+        return _checked(Frac(num, a.den, max(a.bits, b.bits) + 1), at, st)
     common = a.den.gcd(b.den)
     scale_a, scale_b = b.den / common, a.den / common
     _work(a.num, scale_a, at, st, a.bits)
     _work(b.num, scale_b, at, st, b.bits)
     num = a.num * scale_a + (b.num * scale_b if sign > 0 else -(b.num * scale_b))
     den = a.den * scale_a
-    bound = _checked(Frac(num, den, 0), at)
-    return replace(bound, bits=max(_height(num), _height(den)))
+    bound = _checked(Frac(num, den, 0), at, st)
+    return replace(bound, bits=max(_height(num, st, at), _height(den, st, at)))
 
 
 def _multiply(a: Value, b: Value, at: Loc, st: _State) -> Value:
@@ -710,7 +737,7 @@ def _multiply(a: Value, b: Value, at: Loc, st: _State) -> Value:
     num = a.num * b.num
     den = a.den if b.den.is_one() else b.den if a.den.is_one() else a.den * b.den
     bits = a.bits + b.bits + min(len(a.num), len(b.num)).bit_length()
-    return _checked(Frac(num, den, bits), at)
+    return _checked(Frac(num, den, bits), at, st)
 
 
 def _divide(a: Value, b: Value, at: Loc, st: _State) -> Value:
@@ -719,7 +746,7 @@ def _divide(a: Value, b: Value, at: Loc, st: _State) -> Value:
             fail(at, "division by zero")
         if isinstance(a, int):
             return a // b if a % b == 0 else _rational(a, b, st, at)
-        return _checked(Frac(a.num * flint.fmpq(1, b), a.den, a.bits + b.bit_length()), at)
+        return _checked(Frac(a.num * flint.fmpq(1, b), a.den, a.bits + b.bit_length()), at, st)
     if b.num.is_zero():
         fail(at, "division by zero")
     a = _as_frac(a, st, at)
@@ -739,7 +766,9 @@ def _power(base: Value, exponent: int, at: Loc, st: _State) -> Value:
             return _divide(1, _power(base, -exponent, at, st), at, st)
         if base not in (0, 1, -1) and (abs(base).bit_length() - 1) * exponent > MAX_COEFFICIENT_BITS:
             fail(at, f"a number exceeds {MAX_COEFFICIENT_BITS} bits")
-        return base ** exponent
+        # bit_length − 1 only bounds the size from below (10^4300 passed it): check the result,
+        # at most twice the limit, so that every integer stays printable
+        return _int_checked(base ** exponent, at)
     if exponent == 0:
         return 1
     if exponent < 0:
@@ -763,8 +792,15 @@ def _power(base: Value, exponent: int, at: Loc, st: _State) -> Value:
         square = _multiply(square, square, at, st)
 
 
-def _monic_key(poly) -> str:
-    return str(poly * (1 / poly.leading_coefficient()))
+def _add_unit(poly, at: Loc, st: _State) -> None:
+    """A declared unit: the variables dividing it are units, and so is the rest."""
+    content = poly.term_content()
+    for index, e in enumerate(content.monoms()[0]):
+        if e:
+            st.unit_vars.add(index)
+    rest = poly / content
+    if not rest.is_constant():
+        st.unit_polys.append((rest, _height(rest, st, at) // 64))
 
 
 def _require_unit(poly, at: Loc, st: _State) -> None:
@@ -774,13 +810,39 @@ def _require_unit(poly, at: Loc, st: _State) -> None:
         fail(at, f"division by a non-unit: a divisor of more than {MAX_DIVISOR_TERMS} terms is "
                  "not recognised as a unit")
     key = str(poly)
-    if key not in st.factor_cache:
-        bad = [factor for factor, _ in poly.factor()[1] if _monic_key(factor) not in st.unit_keys]
-        st.factor_cache[key] = str(bad[0]) if bad else None
-    bad_factor = st.factor_cache[key]
+    if key not in st.unit_cache:
+        st.unit_cache[key] = _non_unit_factor(poly, at, st)
+    bad_factor = st.unit_cache[key]
     if bad_factor is not None:
         fail(at, f"division by a non-unit: the factor {bad_factor} is not among T_j, 1 - q_i, "
-                 "the declared units and nonzero numbers")
+                 "the declared units (and their factors) and nonzero numbers")
+
+
+def _non_unit_factor(poly, at: Loc, st: _State) -> Optional[str]:
+    """None when `poly` is a unit, else a factor of it that is not one.
+
+    Every irreducible factor of a unit divides T_j, 1 − q_i or a declared unit, so dividing
+    out gcds with those until none is left ends in a number exactly for units.  Unlike a
+    factorisation (which took seconds to minutes for some 400-term divisors of degree 60,
+    and could not be stopped), a gcd is cheap and its cost is counted like a product."""
+    content = poly.term_content()
+    names = st.ctx.names()
+    for index, e in enumerate(content.monoms()[0]):
+        if e and index not in st.unit_vars:
+            return names[index]
+    rest = poly / content
+    words = _height(rest, st, at) // 64
+    for unit, unit_words in st.unit_polys:
+        while not rest.is_constant():
+            _spend(st, len(rest) * len(unit) * (1 + words + unit_words), at)
+            common = rest.gcd(unit)
+            if common.is_constant():
+                break
+            rest = rest / common
+    if rest.is_constant():
+        return None
+    text = str(rest * (1 / rest.leading_coefficient()))
+    return text if len(text) <= 80 else f"{text[:40]}… ({len(rest)} terms)"
 
 
 # ---------------------------------------------------------------------------------------

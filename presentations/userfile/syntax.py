@@ -10,6 +10,7 @@ Every error is a `PresentationFileError` whose text is one line: ``file:line:col
 from __future__ import annotations
 
 import bisect
+import re
 from dataclasses import dataclass
 from typing import List, NoReturn, Optional, Sequence, Tuple, Union
 
@@ -33,12 +34,22 @@ _OPERATORS = "+-*/^(){}[],=:_"
 _ALIASES = {"\u2212": "-", "\u00b7": "*", "\u00d7": "*", "\u22c5": "*"}
 
 
+_LONG_NUMBER = re.compile(r"\d{41,}")
+
+
+def _shorten_number(match) -> str:
+    """A number of thousands of digits, as it stands in a file or a message, is named by its
+    first digits and length: the message stays one short line."""
+    digits = match.group()
+    return f"{digits[:12]}…({len(digits)} digits)"
+
+
 class PresentationFileError(InputError):
     """Anything wrong with a presentation file; str() is one line `file:line:col: message`."""
 
     def __init__(self, message: str, file: str = "<text>", line: Optional[int] = None,
                  column: Optional[int] = None):
-        self.message = " ".join(str(message).split())
+        self.message = _LONG_NUMBER.sub(_shorten_number, " ".join(str(message).split()))
         self.file, self.line, self.column = file, line, column
         super().__init__(str(self))
 
