@@ -239,4 +239,4 @@ def test_the_reader_sees_deferred_and_relative_imports():
     found = edges()
     assert ("ringmatch.compare.cli", "ringmatch.compare.engine") in found        # deferred
     assert ("ringmatch.compare.groebner", "ringmatch.compare.ideal_division") in found
-    assert ("ringmatch.presentations", "ringmatch.presentations.whitney") in found  # relative
+    assert ("ringmatch.presentations", "ringmatch.presentations.plugins") in found  # relative
