@@ -576,9 +576,21 @@ def overall_verdict(presentations: Dict[str, PresentationResult], pairs: List[Pa
 # ---------------------------------------------------------------------------------------
 # One trial and the whole check
 
+@dataclass
+class Trial:
+    """One trial's outcome; `check_case` makes the CaseResult from the trials."""
+    certificate: Certificate
+    presentations: Dict[str, PresentationResult]
+    pairs: List[PairResult]
+    timings: Dict[str, float]
+    points: Optional[dict]            # what the points route lifted (None: not run)
+    verdict: str = "inconclusive"
+    reason: str = ""
+
+
 def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: int,
               equivariant: bool, order: int, method: str,
-              budget: Optional[float] = None) -> dict:
+              budget: Optional[float] = None) -> Trial:
     residues, line = trial_specialisations(flag, seed, prime, equivariant)
     reports: Dict[str, PresentationResult] = {}
     timings = {"groebner": 0.0, "points": 0.0}
@@ -640,8 +652,7 @@ def run_trial(flag: FlagType, families: Sequence[Family], *, seed: int, prime: i
     certificate.order = points_order
     certificate.method = _method_label(use_exact, points_record is not None)
     certificate.probability, certificate.budget_seconds = PROBABILITY_BASIS, budget
-    return {"certificate": certificate, "presentations": reports, "pairs": pairs,
-            "timings": timings, "points": points_record}
+    return Trial(certificate, reports, pairs, timings, points_record)
 
 
 def exact_reports(families: Sequence[Family], flag: FlagType,
@@ -777,19 +788,19 @@ def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int
         outcome = run_trial(flag, families, seed=seed + t, prime=trial_prime(prime, t),
                             equivariant=equivariant, order=order, method=method,
                             budget=budget)
-        outcome["verdict"], outcome["reason"] = overall_verdict(
-            outcome["presentations"], outcome["pairs"], outcome["certificate"].order)
-        outcome["certificate"].exact, outcome["certificate"].kind = _certificate_kind(
-            outcome["verdict"], outcome["pairs"], outcome["presentations"])
+        outcome.verdict, outcome.reason = overall_verdict(
+            outcome.presentations, outcome.pairs, outcome.certificate.order)
+        outcome.certificate.exact, outcome.certificate.kind = _certificate_kind(
+            outcome.verdict, outcome.pairs, outcome.presentations)
         outcomes.append(outcome)
     first = outcomes[0]
-    verdicts = {o["verdict"] for o in outcomes}
-    verdict, reason = (first["verdict"], first["reason"]) if len(verdicts) == 1 else \
+    verdicts = {o.verdict for o in outcomes}
+    verdict, reason = (first.verdict, first.reason) if len(verdicts) == 1 else \
         ("inconclusive", "independent trials reached different verdicts: "
-         + ", ".join(o["verdict"] for o in outcomes))
-    certificate = replace(first["certificate"], seed=seed, order_source=order_source,
-                          exact=first["certificate"].exact and len(verdicts) == 1,
-                          trials=[o["certificate"] for o in outcomes])
+         + ", ".join(o.verdict for o in outcomes))
+    certificate = replace(first.certificate, seed=seed, order_source=order_source,
+                          exact=first.certificate.exact and len(verdicts) == 1,
+                          trials=[o.certificate for o in outcomes])
     return CaseResult(flag.name, flag.rank, equivariant, verdict, reason, certificate,
-                      exact=certificate.exact, presentations=first["presentations"],
-                      pairs=first["pairs"], timings=first["timings"])
+                      exact=certificate.exact, presentations=first.presentations,
+                      pairs=first.pairs, timings=first.timings)
