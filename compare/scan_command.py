@@ -71,12 +71,16 @@ def command(args) -> int:
     from ringmatch.presentations import userfile
     from ringmatch.reports import scan as scan_report
     from .scan import outcome_json, plan_scan, run_scan
-    from .sweep_command import flags_from_arguments
+    from .sweep_command import _store_path_usable, flags_from_arguments
     if args.json and args.table:
         raise UsageError("--json and --table exclude each other")
     if args.figure is not None and not args.figure.lower().endswith((".png", ".svg", ".pdf")):
-        raise UsageError(f"--figure {args.figure}: the file name must end in .png, .svg or .pdf")
+        raise UsageError(f"--figure {_shown(args.figure)}: the file name must end in .png, "
+                         ".svg or .pdf")
     flags = flags_from_arguments(args)
+    _store_path_usable(args.store)
+    if args.figure is not None:
+        _figure_usable(args.figure)
     largest = max(f.n for f in flags)
     if not args.plain and args.prime - 2 < largest:
         raise UsageError(f"--prime {args.prime} is too small for {largest} distinct weights")
@@ -101,7 +105,7 @@ def command(args) -> int:
     except store.StoreError as error:
         raise UsageError(f"--store {error}") from None
     except (OSError, sqlite3.Error) as error:
-        raise UsageError(f"--store {args.store}: {error}") from None
+        raise UsageError(f"--store {_shown(args.store)}: {error}") from None
     finally:
         if progress is not None:
             progress.close()
@@ -117,6 +121,29 @@ def command(args) -> int:
             path = scan_report.scan_figure(data, args.figure,
                                            command=" ".join(["ringmatch", *sys.argv[1:]]))
         except OSError as error:
-            raise UsageError(f"--figure {args.figure!r}: {error.strerror or error}") from None
+            raise UsageError(f"--figure {_shown(args.figure)}: {error.strerror or error}") from None
         print(f"figure: {path}", file=sys.stderr)
     return 0
+
+
+def _shown(path: str) -> str:
+    text = str(path)
+    return repr(text) if len(text) <= 60 else repr(text[:30] + "…" + text[-30:])
+
+
+def _figure_usable(path: str) -> None:
+    """The figure file is tried before the scan (created and removed again, or opened for
+    appending when it exists), so that a name the system refuses ends the command before
+    anything is computed or stored."""
+    import os
+    existed = os.path.lexists(path)
+    try:
+        with open(path, "a"):
+            pass
+    except OSError as error:
+        raise UsageError(f"--figure {_shown(path)}: {error.strerror or error}") from None
+    if not existed:
+        try:
+            os.remove(path)
+        except OSError:
+            pass

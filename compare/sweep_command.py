@@ -92,10 +92,17 @@ def cluster_address(text: str) -> str:
     import re
     match = re.fullmatch(r"(?:([a-z][a-z0-9+.-]*)://)?(\[[0-9a-fA-F:.]+\]|[A-Za-z0-9._-]+):(\d+)",
                          text.strip())
-    if not match or not 0 < int(match.group(3)) < 65536:
+    host = match.group(2) if match else ""
+    # a host name of labels longer than DNS allows ends in a UnicodeError from the idna codec
+    # inside the cluster library (and after the store was created)
+    bad_name = not host.startswith("[") and (
+        len(host) > 253 or any(not 0 < len(label) <= 63 for label in host.rstrip(".").split(".")))
+    if not match or not 0 < int(match.group(3)) < 65536 or bad_name:
+        shown = text if len(text) <= 60 else text[:30] + "…" + text[-30:]
         raise argparse.ArgumentTypeError(
-            f"{text!r} is not a scheduler address; expected HOST:PORT or "
-            "PROTOCOL://HOST:PORT, e.g. tcp://127.0.0.1:8786")
+            f"{shown!r} is not a scheduler address; expected HOST:PORT or "
+            "PROTOCOL://HOST:PORT (host name labels of at most 63 characters), e.g. "
+            "tcp://127.0.0.1:8786")
     return text.strip()
 
 
@@ -150,6 +157,7 @@ def command(args) -> int:
         except ImportError:
             raise UsageError("--cluster needs Dask: pip install 'ringmatch[cluster]'") from None
     _store_path_usable(args.store)
+    store_existed = _exists(args.store)
     _size_check(args, flags)
     from . import parameters
     values = parameters.resolved(args, args.presentations)
@@ -173,6 +181,8 @@ def command(args) -> int:
         raise UsageError(f"--store {error}") from None
     except Exception as error:
         if args.cluster and _is_connection_error(error):
+            if not store_existed:
+                _remove_empty_store(args.store)
             raise UsageError(f"--cluster {args.cluster}: cannot use the cluster "
                              f"({type(error).__name__}: {error})") from None
         if isinstance(error, (OSError, sqlite3.Error)):
@@ -206,6 +216,31 @@ def _store_path_usable(path: str) -> None:
     except OSError as error:
         text = path if len(path) <= 60 else path[:30] + "…" + path[-30:]
         raise UsageError(f"--store {text!r}: {error.strerror or error}") from None
+
+
+def _exists(path: str) -> bool:
+    import os
+    return os.path.lexists(path)
+
+
+def _remove_empty_store(path: str) -> None:
+    """A store this sweep created and left without a single result (the cluster could not be
+    reached) is removed again, so that the refused sweep leaves nothing behind."""
+    import os
+    try:
+        conn = sqlite3.connect(path, timeout=5)
+        try:
+            rows = conn.execute("SELECT count(*) FROM results").fetchone()[0]
+        finally:
+            conn.close()
+    except sqlite3.Error:
+        return
+    if rows == 0:
+        for name in (path, path + "-wal", path + "-shm", path + "-journal"):
+            try:
+                os.remove(name)
+            except OSError:
+                pass
 
 
 def _size_check(args, flags) -> None:

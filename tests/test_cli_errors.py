@@ -78,7 +78,10 @@ def test_a_report_folder_is_tried_but_not_left_behind_on_refusal(tmp_path):
     assert not (tmp_path / "new").exists()
 
 
-@pytest.mark.parametrize("address", ["a,b", "1,,2", "tcp://host", "host:99999", ""])
+@pytest.mark.parametrize("address", ["a,b", "1,,2", "tcp://host", "host:99999", "",
+                                     # DNS labels of at most 63 characters: longer ones
+                                     # ended in a UnicodeError from the idna codec
+                                     LONG + ":8786", "b" * 64 + ".example:8786"])
 def test_a_malformed_cluster_address_is_one_line(address, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     result = run_in_process("sweep", "--cases", "P1", "--cluster", address)
@@ -90,6 +93,12 @@ def test_a_malformed_cluster_address_is_one_line(address, tmp_path, monkeypatch)
 @pytest.mark.parametrize("args, fragment", [
     (["sweep", "--cases", "Fl(21)"], "--case-timeout"),
     (["sweep", "--cases", "P1", "--store", LONG], "--store 'aaa"),
+    # a scan tries its store and its figure before it computes anything
+    (["scan", "whitney-unknowns", "--cases", "P1", "--store", LONG], "--store 'aaa"),
+    (["scan", "whitney-unknowns", "--cases", "P1", "--figure", LONG + ".png"],
+     "--figure 'aaa"),
+    (["scan", "whitney-unknowns", "--cases", "P1", "--figure", "no/such/folder.png"],
+     "No such file or directory"),
 ])
 def test_sweep_refusals_write_no_store(args, fragment, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
@@ -98,3 +107,24 @@ def test_sweep_refusals_write_no_store(args, fragment, tmp_path, monkeypatch):
     assert result.stderr.count("\n") == 1 and fragment in result.stderr
     assert len(result.stderr) < 400
     assert list(tmp_path.iterdir()) == []
+
+
+def test_a_cluster_that_cannot_be_used_leaves_no_store(tmp_path, monkeypatch):
+    """The store is created before the cluster is reached; when no case could be computed
+    there, the store this sweep made is removed again (an existing one is left alone)."""
+    from ringmatch.compare import sweep
+
+    def unreachable(*args, **kwargs):
+        raise OSError("Timed out trying to connect to tcp://127.0.0.1:1 after 20 s")
+    pytest.importorskip("distributed", reason="the cluster extra is not installed")
+    monkeypatch.setattr(sweep, "run_dask", unreachable)
+    monkeypatch.chdir(tmp_path)
+    result = run_in_process("sweep", "--cases", "P1", "--cluster", "127.0.0.1:1")
+    assert result.returncode == 2
+    assert result.stderr.count("\n") == 1 and "cannot use the cluster" in result.stderr
+    assert list(tmp_path.iterdir()) == []
+    kept = tmp_path / "kept.db"
+    assert run_in_process("sweep", "--cases", "P1", "--store", kept).returncode == 0
+    result = run_in_process("sweep", "--cases", "P2", "--store", kept, "--cluster",
+                            "127.0.0.1:1")
+    assert result.returncode == 2 and kept.exists()
