@@ -11,6 +11,7 @@ nothing in a file can be executed.
 from __future__ import annotations
 
 import builtins
+import json
 import re
 from contextlib import contextmanager
 
@@ -392,12 +393,24 @@ def test_huge_integers_on_the_command_line_are_one_line(tmp_path):
                     'expr = "S1_1"\n')
     for args in (["relations", "Gr(2,4)", "--presentation", str(path)],
                  ["check", "Gr(2,4)", "--presentations", f"whitney,{path}"],
+                 ["iso", "Gr(2,4)", "--from", "whitney", "--to", str(path)],
                  ["presentations", "--case-file", "Gr(2,4)", "--of", str(path)]):
         result = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", *args],
                                 capture_output=True, text=True, timeout=120)
         assert result.returncode == 2, (args, result.stderr)
         assert result.stderr.count("\n") == 1 and f"{path}:" in result.stderr, result.stderr
         assert "Traceback" not in result.stderr
+    # a sweep stores the located error as the case's result once, and does not retry it
+    store = tmp_path / "s.db"
+    for attempt in range(2):
+        result = subprocess.run([sys.executable, "-m", "ringmatch.compare.cli", "sweep",
+                                 "--cases", "Gr(2,4)", "--presentations", f"whitney,{path}",
+                                 "--store", str(store), "--json"],
+                                capture_output=True, text=True, timeout=120)
+        assert result.returncode == 3 and "Traceback" not in result.stderr, result.stderr
+        report = json.loads(result.stdout)
+        assert report["cases"][0]["reason"].startswith(f"presentation error: {path}:12:")
+        assert report["from_store"] == (["Gr(2;4)"] if attempt else [])
 
 
 # ---------------------------------------------------------------------------------------
