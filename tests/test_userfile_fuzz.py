@@ -288,6 +288,14 @@ HOSTILE = {
     "a loop of coefficients": ("", '[[relations]]\nfor = "r = 1..3000"\nexpr = "[y^0]((1+y+T_1+'
                                    'T_2+T_3+T_4)^4 * (1+S1_1+S1_2+q_1+T_1*T_2+T_3*T_4+T_1*T_3)^4)"\n',
                                "too much arithmetic"),
+    # each h_200(S_1) is 400 products and sums of one-term polynomials: the interpreter's
+    # cost of an operation is counted too (a loop of them took 40 s)
+    "a loop of small operations": ("", '[[relations]]\nexpr = "sum(r = 1..99999: h_200(S_1))"\n',
+                                   "too much arithmetic"),
+    # dividing by one 330-term unit again and again (its text is what is known about it)
+    "a loop of divisions": ('', '[[units]]\nexpr = "1 + S1_1 + S1_2 + T_1 + T_2 + T_3 + T_4"\n'
+                                '[[relations]]\nexpr = "sum(r = 1..99999: S1_1 / (1 + S1_1 + '
+                                'S1_2 + T_1 + T_2 + T_3 + T_4)^4)"\n', "too much arithmetic"),
     # every relation within its limits, 5 000 of them would keep about 10^8 terms (gigabytes)
     "a loop of large relations": ("", '[[relations]]\nfor = "r = 1..5000"\nexpr = "(1+T_1+T_2+'
                                       'T_3+T_4+q_1)^5 * (1+S1_1+S1_2)^7"\n',

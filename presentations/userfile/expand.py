@@ -43,6 +43,10 @@ MAX_TOTAL_WORK = 30_000_000
 # A pass over a polynomial's terms in Python (taking coefficients of y, measuring coefficient
 # sizes) costs about as much as this many term operations of FLINT's arithmetic.
 PYTHON_TERM_WORK = 100
+# And one addition or multiplication of polynomials, whatever their size, costs the
+# interpreter about this much (5–10 µs): h_200(S_1) is 400 of them on one-term polynomials,
+# and a loop of it took 40 s while its term operations came to a fraction of the limit.
+OPERATION_WORK = 200
 # What an expansion keeps: the terms of all relations and units together, each counted in
 # 64-bit words of its largest coefficient (one word for small ones).  Every relation within
 # its own limits, repeated by a loop, must not fill the memory (the shipped q-Whitney file
@@ -711,7 +715,7 @@ def _add(a: Value, b: Value, sign: int, at: Loc, st: _State) -> Value:
     if isinstance(a, int) and isinstance(b, int):
         return _int_checked(a + sign * b, at)
     a, b = _as_frac(a, st, at), _as_frac(b, st, at)
-    _spend(st, len(a.num) + len(b.num), at)
+    _spend(st, len(a.num) + len(b.num) + OPERATION_WORK, at)
     if a.den == b.den:
         num = a.num + b.num if sign > 0 else a.num - b.num
         return _checked(Frac(num, a.den, max(a.bits, b.bits) + 1), at, st)
@@ -731,6 +735,7 @@ def _multiply(a: Value, b: Value, at: Loc, st: _State) -> Value:
             fail(at, f"a number exceeds {MAX_COEFFICIENT_BITS} bits")
         return _int_checked(a * b, at)
     a, b = _as_frac(a, st, at), _as_frac(b, st, at)
+    _spend(st, OPERATION_WORK, at)
     _work(a.num, b.num, at, st, a.bits + b.bits)
     if int(a.num.total_degree()) + int(b.num.total_degree()) > MAX_DEGREE:
         fail(at, f"degree exceeds {MAX_DEGREE}")
@@ -809,6 +814,10 @@ def _require_unit(poly, at: Loc, st: _State) -> None:
     if len(poly) > MAX_DIVISOR_TERMS:
         fail(at, f"division by a non-unit: a divisor of more than {MAX_DIVISOR_TERMS} terms is "
                  "not recognised as a unit")
+    # the text of the divisor is the key of what is known: writing it costs about a tenth
+    # of a pass in Python per term, and is paid at every division (a loop of divisions by one
+    # 330-term unit took seconds uncounted)
+    _spend(st, len(poly) * (PYTHON_TERM_WORK // 10), at)
     key = str(poly)
     if key not in st.unit_cache:
         st.unit_cache[key] = _non_unit_factor(poly, at, st)
