@@ -269,11 +269,18 @@ def _checked_row(path, row) -> dict:
         problem = "its result has no certificate"
     elif not isinstance(record["reason"], str) or not isinstance(record["verdict"], str):
         problem = "its verdict or reason is not text"
+    elif isinstance(record["seconds"], bool) or \
+            not isinstance(record["seconds"], (int, float)):
+        problem = f"its seconds column holds {record['seconds']!r}, not a number"
     else:
         try:
             record["result"] = CaseResult.from_json(result)
         except RecordError as error:
             problem = f"its result is not readable: {error}"
+        else:
+            if record["verdict"] != record["result"].verdict:
+                problem = (f"its verdict column says {record['verdict']!r} but its result "
+                           f"says {record['result'].verdict!r}")
     if problem:
         raise StoreError(f"{where} is damaged ({problem}); delete that row or use another "
                          "store")
@@ -346,8 +353,27 @@ def _cannot_write(error: sqlite3.OperationalError) -> bool:
 
 def _read_only_connection(path) -> sqlite3.Connection:
     """A store in a folder nobody may write: immutable, so that SQLite needs no -shm file
-    (true there: no sweep can be writing to it)."""
-    uri = Path(path).resolve().as_uri() + "?mode=ro&immutable=1"
+    (true there: no sweep can be writing to it).  Immutable readers ignore a -wal file,
+    though, and a store archived while a sweep ran keeps its last rows there: then the file
+    and its log are copied to a temporary folder, where SQLite replays the log, and read
+    into memory from the copy."""
+    path = Path(path)
+    log = Path(str(path) + "-wal")
+    if log.is_file() and log.stat().st_size > 0:
+        import shutil
+        import tempfile
+        with tempfile.TemporaryDirectory(prefix="ringmatch-store-") as folder:
+            copy = Path(folder) / path.name
+            shutil.copyfile(path, copy)
+            shutil.copyfile(log, Path(str(copy) + "-wal"))
+            source = sqlite3.connect(str(copy), timeout=30)
+            try:
+                memory = sqlite3.connect(":memory:")
+                source.backup(memory)
+            finally:
+                source.close()
+        return memory
+    uri = path.resolve().as_uri() + "?mode=ro&immutable=1"
     return sqlite3.connect(uri, uri=True, timeout=30)
 
 

@@ -174,10 +174,10 @@ def _rows_from_store(path: Path) -> List[dict]:
                           "this installation lacks") from None
     try:
         return list(load_results(path))
+    except ValueError as error:   # the store's own one-line errors (damaged row, schema, …)
+        raise SourceError(str(error)) from None
     except sqlite3.DatabaseError as error:
         raise SourceError(f"{path}: unreadable results store ({error})") from None
-    except ValueError as error:   # the store's own one-line errors (wrong schema, …)
-        raise SourceError(str(error)) from None
 
 
 def load_rows(source: Source) -> List[dict]:
