@@ -284,9 +284,10 @@ HOSTILE = {
     # a message names a long number by its first digits and length, never whole
     "a long range": ("", '[[relations]]\nfor = "r = 1..10^4000"\nexpr = "S1_1"\n',
                      "range 1..100000000000…(4001 digits) is too long"),
-    # taking coefficients of y is a pass in Python over every term: counted as arithmetic
-    "a loop of coefficients": ("", '[[relations]]\nfor = "r = 1..3000"\nexpr = "[y^0]((1+y+T_1+'
-                                   'T_2+T_3+T_4)^4 * (1+S1_1+S1_2+q_1+T_1*T_2+T_3*T_4+T_1*T_3)^4)"\n',
+    # taking coefficients of y (once a pass in Python over every term, uncounted) is counted
+    "a loop of coefficients": ("", '[[relations]]\nfor = "r = 1..3000"\nexpr = "[y^2](X) - '
+                                   '[y^2](X)"\n'.replace("X", "(1+y+T_1+T_2+T_3+T_4)^4 * "
+                                                          "(1+S1_1+S1_2+q_1+T_1*T_2+T_3*T_4)^4"),
                                "too much arithmetic"),
     # each h_200(S_1) is 400 products and sums of one-term polynomials: the interpreter's
     # cost of an operation is counted too (a loop of them took 40 s)

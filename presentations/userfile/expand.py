@@ -40,15 +40,16 @@ MAX_STEPS = 300_000           # evaluation steps (syntax-tree nodes and loop rou
 # the size of their coefficients in 64-bit words, plus the terms of additions.  Each step
 # within its own limits can still add up to minutes and gigabytes over a loop.
 MAX_TOTAL_WORK = 30_000_000
-# A pass over a polynomial's terms in Python (taking coefficients of y, measuring coefficient
-# sizes) costs about as much as this many term operations of FLINT's arithmetic.
+# A pass over a polynomial's coefficients in Python (measuring their sizes) costs about as
+# much as this many term operations of FLINT's arithmetic.  Term operations themselves
+# count once more for every 64 variables of the ring (`_State.term_weight`).
 PYTHON_TERM_WORK = 100
 # And one addition or multiplication of polynomials, whatever their size, costs the
 # interpreter about this much (5–10 µs): h_200(S_1) is 400 of them on one-term polynomials,
 # and a loop of it took 40 s while its term operations came to a fraction of the limit.
 OPERATION_WORK = 200
-# What an expansion keeps: the terms of all relations and units together, each counted in
-# 64-bit words of its largest coefficient (one word for small ones).  Every relation within
+# What an expansion keeps: the terms of all relations and units together, each counted once
+# more per 64 bits of its largest coefficient and per 64 variables.  Every relation within
 # its own limits, repeated by a loop, must not fill the memory (the shipped q-Whitney file
 # keeps 8 595 terms for Fl(12), the largest flag type its intermediate polynomials allow).
 MAX_KEPT_WORDS = 200_000
@@ -104,6 +105,9 @@ class _State:
     steps: int = 0
     work: int = 0
     kept: int = 0
+    # a term of the canonical ring is an exponent vector of a byte or more per variable:
+    # operations on terms, and the memory they take, grow with the number of variables
+    term_weight: int = 1
     y_index: int = -1
     params: Dict[str, object] = field(default_factory=dict)     # name → ParameterDecl
     values: Dict[str, int] = field(default_factory=dict)        # "a" or "a_2" → value
@@ -144,6 +148,7 @@ def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = No
             [f"q{i}" for i in range(1, flag.m + 1)] + ["y"]
     st.ctx = flint.fmpq_mpoly_ctx.get(tuple(names), "degrevlex")
     st.y_index = len(names) - 1
+    st.term_weight = 1 + len(names) // 64
     st.gen_index = {g.name: index for index, g in enumerate(generators)}
     gens = st.ctx.gens()
     st.unit_vars = {len(generators) + j - 1 for j in range(1, flag.n + 1)}
@@ -498,22 +503,34 @@ def _coefficient(node: Coefficient, env: dict, st: _State) -> Value:
     value = _eval(node.arg, env, st)
     if isinstance(value, int):
         return value if power == 0 else 0
-    return Frac(_split_by_y(value.num, st, node.at).get(power, st.ctx.constant(0)), value.den,
-                value.bits)
+    if power < 0:
+        return 0
+    return Frac(_split_by_y(value.num, st, node.at, power).get(power, st.ctx.constant(0)),
+                value.den, value.bits)
 
 
-def _split_by_y(poly, st: _State, at: Loc) -> Dict[int, object]:
+def _split_by_y(poly, st: _State, at: Loc, upto: Optional[int] = None) -> Dict[int, object]:
+    """{j: coefficient of y^j} for j up to `upto` (all without it), the zero ones left out.
+
+    By FLINT alone: the coefficient of y^0 is the value at y = 0, and what is left is
+    divided by y.  Reading the terms into Python instead cost microseconds per term and
+    variable (16 µs a term with 200 variables)."""
     if poly.is_zero():
         return {}
-    if poly.degrees()[st.y_index] <= 0:
+    degree = int(poly.degrees()[st.y_index])
+    if degree <= 0:
         return {0: poly}
-    _spend(st, len(poly) * PYTHON_TERM_WORK, at)
-    groups: Dict[int, dict] = {}
-    for exponents, c in zip(poly.monoms(), poly.coeffs()):
-        power = exponents[st.y_index]
-        rest = exponents[:st.y_index] + (0,)
-        groups.setdefault(power, {})[rest] = c
-    return {power: st.ctx.from_dict(terms) for power, terms in groups.items()}
+    y = st.ctx.gen(st.y_index)
+    out: Dict[int, object] = {}
+    rest = poly
+    for power in range(min(degree, degree if upto is None else upto) + 1):
+        _spend(st, 3 * len(rest) * st.term_weight, at)
+        constant = rest.subs({st.y_index: 0})
+        if not constant.is_zero():
+            out[power] = constant
+        if power < degree:
+            rest = (rest - constant) / y
+    return out
 
 
 def _loop(node: Loop, env: dict, st: _State) -> Value:
@@ -670,10 +687,10 @@ def _height(poly, st: Optional[_State] = None, at: Optional[Loc] = None) -> int:
 
 def _keep(poly, at: Loc, st: _State) -> None:
     """Count a finished relation or unit against what one expansion may keep."""
-    st.kept += len(poly) * (1 + _height(poly, st, at) // 64)
+    st.kept += len(poly) * (_height(poly, st, at) // 64 + st.term_weight)
     if st.kept > MAX_KEPT_WORDS:
         fail(at, f"the relations and units take more than {MAX_KEPT_WORDS} terms together "
-                 "(a term with a coefficient of more than 64 bits counting once per 64 bits)")
+                 "(a term counting once more per 64 bits of coefficient and per 64 variables)")
 
 
 def _checked(value: Frac, at: Loc, st: Optional[_State] = None) -> Frac:
@@ -695,7 +712,7 @@ def _work(a, b, at: Loc, st: Optional[_State] = None, bits: int = 0) -> None:
         fail(at, f"expansion too large: a product of {len(a)} by {len(b)} terms (at most "
                  f"{MAX_PRODUCT_WORK} term products per multiplication)")
     if st is not None:
-        _spend(st, len(a) * len(b) * (1 + bits // 64), at)
+        _spend(st, len(a) * len(b) * (1 + bits // 64) * st.term_weight, at)
 
 
 def _spend(st: _State, amount: int, at: Loc) -> None:
@@ -715,7 +732,7 @@ def _add(a: Value, b: Value, sign: int, at: Loc, st: _State) -> Value:
     if isinstance(a, int) and isinstance(b, int):
         return _int_checked(a + sign * b, at)
     a, b = _as_frac(a, st, at), _as_frac(b, st, at)
-    _spend(st, len(a.num) + len(b.num) + OPERATION_WORK, at)
+    _spend(st, (len(a.num) + len(b.num)) * st.term_weight + OPERATION_WORK, at)
     if a.den == b.den:
         num = a.num + b.num if sign > 0 else a.num - b.num
         return _checked(Frac(num, a.den, max(a.bits, b.bits) + 1), at, st)
@@ -843,7 +860,7 @@ def _non_unit_factor(poly, at: Loc, st: _State) -> Optional[str]:
     words = _height(rest, st, at) // 64
     for unit, unit_words in st.unit_polys:
         while not rest.is_constant():
-            _spend(st, len(rest) * len(unit) * (1 + words + unit_words), at)
+            _spend(st, len(rest) * len(unit) * (1 + words + unit_words) * st.term_weight, at)
             common = rest.gcd(unit)
             if common.is_constant():
                 break
