@@ -458,7 +458,11 @@ def run_scan(plan: ScanPlan, store_path, *, mode: str = "all", workers: int = 1,
     started = time.monotonic()
     conn = store.open_store(store_path)
     kwargs = dict(workers=workers, limits=limits, progress=progress, run_command=command)
+    claimed = False
     try:
+        # one sweep or scan at a time per store: two would both compute every case
+        store.claim(conn, command)
+        claimed = True
         if mode == "all":
             evaluate(plan, [(f, p) for f in plan.flags for p in plan.points], outcome, conn,
                      **kwargs)
@@ -489,6 +493,8 @@ def run_scan(plan: ScanPlan, store_path, *, mode: str = "all", workers: int = 1,
         else:
             raise ValueError(f"unknown scan mode {mode!r}")
     finally:
+        if claimed:
+            store.release(conn)
         conn.close()
     outcome.wall = time.monotonic() - started
     return outcome

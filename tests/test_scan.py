@@ -226,3 +226,32 @@ def test_per_step_axes(tmp_path):
     assert data["parameters"] == ["a_1", "a_2"]
     assert len(data["points"]) == 6
     assert data["agreeing_everywhere"] == [{"a_1": 0, "a_2": 0}]
+
+
+def test_a_store_in_use_by_a_live_sweep_or_scan_is_refused(tmp_path):
+    """Two scans on one store both computed every point (issue #18 audit): a scan claims its
+    store as a sweep does, and a live claim refuses it."""
+    from ringmatch.compare import store
+    path = tmp_path / "s.db"
+    other = subprocess.Popen([sys.executable, "-c", "import time; time.sleep(60)"])
+    try:
+        conn = store.open_store(path)
+        with conn:
+            conn.execute("INSERT INTO meta VALUES ('sweep_in_progress', ?)", (json.dumps(
+                {"host": __import__("socket").gethostname(), "pid": other.pid,
+                 "started": "now", "command": "ringmatch scan"}),))
+        conn.close()
+        plan = scan.plan_scan("whitney-unknowns", [parse_flag("P1")], fixed={"sign": 1},
+                              vary=[("power", (1,))])
+        with pytest.raises(store.StoreError,
+                           match=f"in use by another sweep \\(pid {other.pid}"):
+            scan.run_scan(plan, path)
+    finally:
+        other.kill()
+        other.wait()
+    outcome = scan.run_scan(plan, path)                 # that one is gone: taken over
+    assert outcome.computed == 1
+    conn = store.open_store(path)
+    assert conn.execute("SELECT count(*) FROM meta WHERE key = 'sweep_in_progress'"
+                        ).fetchone()[0] == 0            # and released at the end
+    conn.close()
