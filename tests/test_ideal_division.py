@@ -321,3 +321,26 @@ def test_a_routine_that_crashes_on_its_first_call_is_not_used(monkeypatch):
 def test_no_addresses_are_read_outside_cpython(monkeypatch):
     monkeypatch.setattr(sys.implementation, "name", "pypy")
     assert ideal_division._load_routine() is None
+
+
+def test_a_flint_of_another_version_is_not_used(monkeypatch):
+    """The library in memory must be the FLINT python-flint reports (checked without a call)."""
+    if ideal_division._loaded_flint_library() is None:
+        pytest.skip("no FLINT library mapped into this process")
+    monkeypatch.setattr(flint, "__FLINT_VERSION__", "0.0.0", raising=False)
+    assert ideal_division._load_routine() is None
+
+
+def test_the_routine_is_never_called_when_the_layout_does_not_check_out(monkeypatch):
+    """What can be checked without calling the routine is checked first: with a layout that
+    does not match, not even the child's first call is made."""
+    calls = []
+    monkeypatch.setattr(ideal_division, "_ROUTINE", lambda *args: calls.append(args))
+    monkeypatch.setattr(ideal_division, "_LAYOUTS", {})
+    monkeypatch.setattr(ideal_division, "_FIRST_CALL", {})
+    monkeypatch.setattr(ideal_division, "_checked_layout", lambda ctx: None)
+    monkeypatch.setattr(ideal_division, "_run_first_call_in_child",
+                        lambda: calls.append("child") or True)
+    ctx = context(names=("p", "r"))
+    assert not ideal_division.available(ctx)
+    assert calls == []
