@@ -127,6 +127,9 @@ def run_sweep(plan: SweepPlan, store_path, *, workers: int = 1, limits: Limits =
     conn = store.open_store(store_path)
     claimed = False
     try:
+        # a damaged row is refused before the store is marked as in use (nothing written);
+        # read again after claiming, as another sweep may have finished cases meanwhile
+        store.stored_rows(conn, settings)
         store.claim(conn, command)
         claimed = True
         stored = store.stored_rows(conn, settings)

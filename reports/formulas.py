@@ -48,14 +48,11 @@ def to_sympy(poly, names: Sequence[str], *, symmetric: bool = False) -> sympy.Ex
     (−p/2, p/2] (`small_residue`)."""
     symbols = [_symbol(name) for name in names]
     modulus = poly.context().modulus() if hasattr(poly.context(), "modulus") else 0
-    total = sympy.Integer(0)
-    for exponents, coefficient in poly.terms():
-        term = _coefficient(coefficient, modulus, symmetric)
-        for symbol, e in zip(symbols, exponents):
-            if e:
-                term *= symbol ** int(e)
-        total += term
-    return total
+    # one Add of all terms: adding them one at a time is quadratic in SymPy
+    return sympy.Add(*[sympy.Mul(_coefficient(coefficient, modulus, symmetric),
+                                 *[symbol ** int(e) for symbol, e in zip(symbols, exponents)
+                                   if e])
+                       for exponents, coefficient in poly.terms()])
 
 
 def input_text(expr: sympy.Expr) -> str:

@@ -167,6 +167,22 @@ def test_a_damaged_row_is_named_with_file_and_row(tmp_path, results, damage, fra
         store.load_results(path)
 
 
+def test_a_sweep_refuses_a_damaged_store_before_marking_it_in_use(tmp_path, monkeypatch):
+    from conftest import run_in_process
+    path = tmp_path / "s.db"
+    words = ["sweep", "--cases", "P1;P2", "--presentations", "whitney,vieta", "--store", path]
+    assert run_in_process(*words).returncode == 0
+    conn = sqlite3.connect(path)
+    with conn:
+        conn.execute("UPDATE results SET seconds = 'fast' WHERE case_name = 'P1'")
+    conn.close()
+    claims = []
+    monkeypatch.setattr(store, "claim", lambda *args, **kwargs: claims.append(args))
+    refused = run_in_process(*words)
+    assert refused.returncode == 2 and "seconds column holds 'fast'" in refused.stderr
+    assert claims == []
+
+
 def test_results_of_schema_version_2_are_read(tmp_path, results):
     """Stores written before the typed results (schema 2: witnesses of two shapes, undecided
     cases without schema and exact) are read into the records of today's schema."""
