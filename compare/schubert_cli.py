@@ -81,7 +81,7 @@ def command(args) -> int:
         raise UsageError(str(error)) from None
 
 
-def _basis_for(args, flag, presentation_name: str):
+def _basis_for(args, flag, presentation_name: str, family=None):
     choice = args.basis
     if choice is None:
         if presentation_name.endswith(".toml") and \
@@ -101,7 +101,9 @@ def _basis_for(args, flag, presentation_name: str):
         return engine.candidate_basis(flag, sb.candidate_named(choice))
     if not choice.endswith(".toml"):
         sb.candidate_named(choice)      # raises the one-line list of known names
-    loaded = schubert_files.load_basis(choice, flag)
+    generators = family.generators(flag) if family is not None and \
+        not family.unsupported(flag) else ()
+    loaded = schubert_files.load_basis(choice, flag, generators)
     if loaded.candidate is not None:
         basis = engine.candidate_basis(flag, loaded.candidate)
         return engine.Basis(loaded.name, basis.labels, loaded.candidate,
@@ -153,7 +155,7 @@ def _case(args, flag, seed):
     results, bases = [], []
     for name in args.presentation:
         family = get_family(name, _values(args))
-        basis = _basis_for(args, flag, name)
+        basis = _basis_for(args, flag, name, family)
         options = dict(seed=seed, prime=args.prime, degree_bound=args.q_degree,
                        equivariant=args.equivariant)
         result = engine.choose_candidate(flag, family, **options) if basis == "auto" \

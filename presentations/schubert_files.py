@@ -1,7 +1,7 @@
 """User-supplied Schubert bases: a `[schubert]` table in a TOML file.
 
 The table may stand alone in its own file or sit in a presentation file next to the
-presentation (whose loader leaves it alone).  Two forms, which may be combined:
+presentation (whose loader leaves it alone).  Three forms, which may be combined:
 
     [schubert]
     name = "my-basis"                  # optional; default: the file name
@@ -11,9 +11,16 @@ presentation (whose loader leaves it alone).  Two forms, which may be combined:
     case = "Gr(2,4)"
     classes = { "[]" = "1", "[1]" = "1 - S1_2", "[2]" = "...", ... }
 
-Polynomials use the generator names of the presentation they are evaluated in (e.g. S1_1,
-Q1_2 for whitney), integers, + - * ( ) and ^ (or **) with a non-negative integer exponent.
-They are parsed here, never evaluated as code.  A per-case entry wins over `grothendieck`.
+    [[schubert.family]]                # written once, expanded for every case it applies to
+    applies_to = "projective"
+    classes = [ { for = "a = 0..n-1", label = "[{a}]", expr = "(1 - lambda_1(S_1))^a" } ]
+
+Per-case polynomials use the generator names of the presentation they are evaluated in (e.g.
+S1_1, Q1_2 for whitney), integers, + - * ( ) and ^ (or **) with a non-negative integer
+exponent; family classes use the expression language of presentation files (loops, holes,
+λ-classes by meaning: docs/presentation-files.md, docs/schubert-bases.md).  Everything is
+parsed, never evaluated as code.  A per-case entry wins over a family, a family over
+`grothendieck`.
 """
 from __future__ import annotations
 
@@ -21,9 +28,13 @@ import os
 import re
 import tomllib
 from dataclasses import dataclass
-from typing import Dict, List, Optional, Tuple
+from typing import Dict, List, Optional, Sequence, Tuple
 
 from .flagtype import FlagType, FlagTypeError, parse_flag
+from .interface import Generator
+from .userfile.container import read_schubert_families
+from .userfile.expand import applies, expand_classes
+from .userfile.syntax import fail
 from . import schubert_bases as sb
 from .schubert_bases import SchubertInputError
 
@@ -52,7 +63,7 @@ def has_schubert_table(path: str) -> bool:
         return False
 
 
-def _read(path: str) -> dict:
+def _text(path: str) -> str:
     try:
         with open(path, "rb") as handle:
             raw = handle.read(MAX_FILE_BYTES + 1)
@@ -61,20 +72,31 @@ def _read(path: str) -> dict:
     if len(raw) > MAX_FILE_BYTES:
         raise SchubertInputError(f"{path}: file larger than {MAX_FILE_BYTES} bytes")
     try:
-        return tomllib.loads(raw.decode("utf-8"))
+        return raw.decode("utf-8")
     except UnicodeDecodeError:
         raise SchubertInputError(f"{path}: not UTF-8 text") from None
+
+
+def _read(path: str) -> dict:
+    try:
+        return tomllib.loads(_text(path))
     except tomllib.TOMLDecodeError as error:
         raise SchubertInputError(f"{path}: not valid TOML: {error}") from None
+    except (RecursionError, ValueError):
+        raise SchubertInputError(f"{path}: not readable as TOML (nested too deeply, or an "
+                                 "integer too long)") from None
 
 
-_KEYS = ("name", "description", "grothendieck", "case")
+_KEYS = ("name", "description", "grothendieck", "case", "family")
 _CASE_KEYS = ("case", "classes", "classical")
 _PRODUCT_KEYS = ("u", "v", "product")
 
 
-def load_basis(path: str, flag: FlagType) -> FileBasis:
-    """The basis the file gives for `flag`; one-line errors naming the file and the key."""
+def load_basis(path: str, flag: FlagType, generators: Sequence[Generator] = ()) -> FileBasis:
+    """The basis the file gives for `flag`: a [[schubert.case]] for it, else the first
+    [[schubert.family]] that applies to it (expanded against the presentation's
+    `generators`), else the `grothendieck` candidate.  One-line errors naming the file and
+    the key (file:line:col inside a family)."""
     table = _read(path).get("schubert")
     if not isinstance(table, dict):
         raise SchubertInputError(f"{path}: no [schubert] table")
@@ -117,6 +139,10 @@ def load_basis(path: str, flag: FlagType) -> FileBasis:
         classical = _classical_products(entry.get("classical", []), labels, where)
         return FileBasis(name, tuple(labels), tuple(polys), source=path,
                          classical=classical or None)
+    if "family" in table:
+        basis = _family_basis(path, name, flag, generators)
+        if basis is not None:
+            return basis
     if "grothendieck" in table:
         spec = table["grothendieck"]
         candidate = sb.candidate_named(f"groth:{spec}") if isinstance(spec, str) else None
@@ -124,7 +150,34 @@ def load_basis(path: str, flag: FlagType) -> FileBasis:
             raise SchubertInputError(f"{path}: grothendieck must be a string such as \"S:1-x\"")
         return FileBasis(name, candidate=candidate, source=path)
     raise SchubertInputError(f"{path}: no Schubert basis for {flag.name} (neither a "
-                             "[[schubert.case]] for it nor a grothendieck family)")
+                             "[[schubert.case]] for it, nor a [[schubert.family]] that applies "
+                             "to it, nor a grothendieck family)")
+
+
+def _family_basis(path: str, name: str, flag: FlagType,
+                  generators: Sequence[Generator]) -> Optional[FileBasis]:
+    """The first [[schubert.family]] of the file that applies to flag, expanded; None when
+    none applies."""
+    families = read_schubert_families(_text(path), path)
+    family = next((f for f in families if applies(f.applies_to, flag)), None)
+    if family is None:
+        return None
+    if not generators:
+        fail(family.at, "a [[schubert.family]] is written in a presentation's generators; "
+                        "none was given")
+    labels, polys, seen = [], [], {}
+    for text, at, polynomial in expand_classes(family, flag, generators):
+        try:
+            label = sb.parse_label(text)
+        except SchubertInputError as error:
+            fail(at, str(error))
+        if label in seen:
+            spelled = "" if seen[label] == text else f" (written {seen[label]!r} and {text!r})"
+            fail(at, f"two classes have the label {sb.label_text(label)}{spelled}")
+        seen[label] = text
+        labels.append(label)
+        polys.append(polynomial)
+    return FileBasis(name, tuple(labels), tuple(polys), source=path)
 
 
 def _classical_products(entries, labels, where: str) -> dict:

@@ -60,7 +60,24 @@ class UnitDecl:
     expr: Node
 
 
-Decl = Union[GeneratorDecl, RelationDecl, UnitDecl]
+@dataclass(frozen=True)
+class ClassDecl:
+    """One Schubert class of a family basis: its label (a template such as "[{a}]") and the
+    polynomial (an expression in the presentation's generators)."""
+    label: Template
+    expr: Node
+
+
+Decl = Union[GeneratorDecl, RelationDecl, UnitDecl, ClassDecl]
+
+
+@dataclass(frozen=True)
+class SchubertFamily:
+    """A [[schubert.family]] table: Schubert classes written once for every flag type it
+    applies to, with the loops and holes of presentation files."""
+    applies_to: Tuple[str, ...]
+    classes: Tuple["Entry", ...]
+    at: Loc
 
 
 @dataclass(frozen=True)
@@ -357,6 +374,7 @@ _ENTRY_KEYS = {
     "generators": ("for", "name", "meaning", "weight", "group"),
     "relations": ("for", "coefficients", "label", "expr", "group"),
     "units": ("for", "expr", "group"),
+    "classes": ("for", "label", "expr", "group"),
 }
 
 
@@ -606,6 +624,9 @@ def _declaration(item: dict, section: str, locator: StringLocator, where: Loc,
         weight = _integer_or_expression(item["weight"], "weight", locator, weight_at)
         return GeneratorDecl(name, meaning, weight, weight_at)
     expr_source = _string_source(item, "expr", section, locator, where)
+    if section == "classes":
+        label = parse_template(_string_source(item, "label", section, locator, where))
+        return ClassDecl(label, parse_expression(expr_source))
     if section == "units":
         return UnitDecl(parse_expression(expr_source))
     expr = parse_relation(expr_source)
@@ -616,3 +637,72 @@ def _declaration(item: dict, section: str, locator: StringLocator, where: Loc,
     if "label" in item:
         label = parse_template(_string_source(item, "label", section, locator, where))
     return RelationDecl(expr, coefficients, label)
+
+
+# ---------------------------------------------------------------------------------------
+# Schubert bases written as families ([[schubert.family]] in a [schubert] table)
+
+_SCHUBERT_FAMILY_KEYS = ("applies_to", "classes")
+
+
+def read_schubert_families(text: str, label: str) -> Tuple[SchubertFamily, ...]:
+    """The [[schubert.family]] tables of a file's text, parsed (not yet expanded); errors
+    name file:line:col.  The rest of the [schubert] table is read elsewhere."""
+    try:
+        data = tomllib.loads(text)
+    except (tomllib.TOMLDecodeError, RecursionError, ValueError) as error:
+        if isinstance(error, tomllib.TOMLDecodeError):
+            raise _toml_error(error, text, label) from None
+        raise PresentationFileError("not readable as TOML", label) from None
+    table = data.get("schubert")
+    raw = table.get("family", []) if isinstance(table, dict) else []
+    locator = StringLocator.scan(label, text)
+    top = locator.key("family")
+    if isinstance(raw, dict):
+        raw = [raw]
+    if not isinstance(raw, list):
+        fail(top, "write Schubert families as [[schubert.family]] tables")
+    out = []
+    for number, item in enumerate(raw, start=1):
+        if not isinstance(item, dict):
+            fail(top, f"[[schubert.family]] number {number} is not a table")
+        start = locator.table_start(item)
+        where = Loc(locator.whole, start) if start is not None and start >= 0 else top
+        for key in item:
+            if key not in _SCHUBERT_FAMILY_KEYS:
+                fail(locator.key_in_table(key, start, where),
+                     f"unknown key {key!r} in [[schubert.family]] (expected one of "
+                     f"{', '.join(_SCHUBERT_FAMILY_KEYS)})")
+        applies_to = _family_applies_to(item, locator, locator.key_in_table("applies_to", start,
+                                                                             where), where)
+        if "classes" not in item:
+            fail(where, "a [[schubert.family]] needs 'classes', a list of { for = …, label = …, "
+                        "expr = … } entries")
+        classes = _entries(item["classes"], "classes", locator,
+                           locator.key_in_table("classes", start, where), 0)
+        if not classes:
+            fail(where, "empty classes list in [[schubert.family]]")
+        out.append(SchubertFamily(applies_to, classes, where))
+    return tuple(out)
+
+
+def _family_applies_to(item: dict, locator: StringLocator, at: Loc,
+                       where: Loc) -> Tuple[str, ...]:
+    if "applies_to" not in item:
+        fail(where, "a [[schubert.family]] needs 'applies_to' (\"grassmannians\", "
+                    "\"projective\", \"complete\", \"all\", or flag types)")
+    raw = item["applies_to"]
+    items = [raw] if isinstance(raw, str) else raw
+    if not isinstance(items, list) or not items or not all(isinstance(x, str) for x in items):
+        fail(at, "applies_to must be a string or a non-empty list of strings")
+    out = []
+    for word in (x.strip() for x in items):
+        if word in APPLIES_TO_WORDS:
+            out.append(word)
+            continue
+        try:
+            out.append(parse_flag(word).name)
+        except FlagTypeError:
+            fail(at, f"applies_to: {word!r} is neither one of {', '.join(APPLIES_TO_WORDS)} "
+                     "nor a flag type such as Fl(1,3;5)")
+    return tuple(out)

@@ -15,6 +15,7 @@ multiplied through by that unit, which generates the same ideal.
 """
 from __future__ import annotations
 
+import difflib
 import re
 from dataclasses import dataclass, field, replace
 from typing import Dict, Iterator, List, Optional, Set, Tuple, Union
@@ -24,7 +25,8 @@ import flint
 from ..flagtype import FlagType
 from ..interface import Generator
 from ..meanings import KIND_BY_SYNTAX, Meaning
-from .container import FileSpec, GeneratorDecl, RelationDecl, UnitDecl
+from .container import (ClassDecl, FileSpec, GeneratorDecl, RelationDecl, SchubertFamily,
+                        UnitDecl)
 from .syntax import (RESERVED, Apply, Chain, Coefficient, Equation, Extremum, Loc, Loop,
                               Negate, Node, Num, Power, PresentationFileError, Symbol, Template,
                               Toda, fail)
@@ -119,12 +121,17 @@ class _State:
 def unsupported_reason(spec: FileSpec, flag: FlagType) -> Optional[str]:
     if spec.flavour == "case":
         return None if flag == spec.case else f"this case file describes {spec.case.name} only"
-    for word in spec.applies_to:
-        if (word == "all" or (word == "grassmannians" and flag.is_grassmannian)
-                or (word == "projective" and flag.dims == (1,))
-                or (word == "complete" and flag.is_complete) or word == flag.name):
-            return None
+    if applies(spec.applies_to, flag):
+        return None
     return f"the file applies to {', '.join(spec.applies_to)} only"
+
+
+def applies(words: Tuple[str, ...], flag: FlagType) -> bool:
+    """Whether an `applies_to` list ("all", "grassmannians", …, flag names) takes in flag."""
+    return any(word == "all" or (word == "grassmannians" and flag.is_grassmannian)
+               or (word == "projective" and flag.dims == (1,))
+               or (word == "complete" and flag.is_complete) or word == flag.name
+               for word in words)
 
 
 def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = None) -> Expanded:
@@ -157,6 +164,68 @@ def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = No
     relations = _expand_relations(spec, st)
     return Expanded(spec.file, flag, st.ctx, tuple(generators), tuple(relations), tuple(units),
                     _expected_colength(spec, st))
+
+
+MAX_CLASSES = 5_000
+
+
+def expand_classes(family: SchubertFamily, flag: FlagType, generators) -> List[Tuple[str, Loc, dict]]:
+    """The Schubert classes a [[schubert.family]] gives for `flag`, in a presentation with
+    these `generators`: (label text, where its entry is, polynomial as {((name, power), …):
+    integer}).  Names and meanings (lambda_j(S_i), det(S_i), x_a(S_i), …) resolve against
+    the generators, so one family serves every presentation that has them.  A class is
+    non-equivariant and classical in form: no y, T_j or q_i, integer coefficients, no
+    division.  Errors name file:line:col."""
+    st = _State(flag)
+    names = [g.name for g in generators] + [f"T{j}" for j in range(1, flag.n + 1)] + \
+            [f"q{i}" for i in range(1, flag.m + 1)] + ["y"]
+    st.ctx = flint.fmpq_mpoly_ctx.get(tuple(names), "degrevlex")
+    st.y_index = len(names) - 1
+    st.term_weight = 1 + len(names) // 64
+    st.gen_index = {g.name: index for index, g in enumerate(generators)}
+    st.by_meaning = {g.meaning: g.name for g in generators}
+    out: List[Tuple[str, Loc, dict]] = []
+    for decl, env, at, _ in _walk(family.classes, {}, st):
+        assert isinstance(decl, ClassDecl)
+        label = _render(decl.label, env, st)
+        try:
+            value = _as_frac(_eval(decl.expr, env, st), st, decl.expr.at)
+        except PresentationFileError as error:
+            raise _with_generators(error, generators) from None
+        if not value.den.is_one():
+            fail(decl.expr.at, "a Schubert class cannot divide (write it as a polynomial in "
+                               "the generators)")
+        degrees = value.num.degrees()
+        extra = [names[v] for v in range(len(generators), len(names)) if degrees[v] > 0]
+        if extra:
+            fail(decl.expr.at, f"a Schubert class is a polynomial in the generators alone; "
+                               f"this one contains {extra[0]}")
+        polynomial = {}
+        for exponents, c in zip(value.num.monoms(), value.num.coeffs()):
+            if c.q != 1:
+                fail(decl.expr.at, f"a Schubert class needs integer coefficients, not {c}")
+            monomial = tuple((names[v], int(e)) for v, e in enumerate(exponents) if e)
+            polynomial[tuple(sorted(monomial))] = int(c.p)
+        _keep(value.num, decl.expr.at, st)
+        out.append((label, at, polynomial))
+        if len(out) > MAX_CLASSES:
+            fail(at, f"more than {MAX_CLASSES} Schubert classes")
+    return out
+
+
+def _with_generators(error: PresentationFileError, generators) -> PresentationFileError:
+    """An unknown name in a Schubert class most often is a generator of another presentation:
+    name the nearest generator of this one, and all of them."""
+    match = re.match(r"unknown symbol '([^']*)'$", error.message)
+    if not match:
+        return error
+    names = [g.name for g in generators]
+    nearest = difflib.get_close_matches(match.group(1), names, n=1)
+    hint = f"did you mean {nearest[0]}? " if nearest else ""
+    shown = ", ".join(names[:12]) + (", …" if len(names) > 12 else "")
+    return PresentationFileError(f"{error.message} ({hint}this presentation's generators: "
+                                 f"{shown}; or write a meaning such as lambda_1(S_1))",
+                                 error.file, error.line, error.column)
 
 
 def _walk(entries, env: dict, st: _State) -> Iterator[Tuple[object, dict, Loc, int]]:
