@@ -1,8 +1,9 @@
 """The `ringmatch schubert` subcommand: Schubert structure constants of one case.
 
 Exit status: 0 when every check passes (and, with several presentations, their tables agree;
-with `--basis all`, when some candidate passes every check), 1 when a check fails, 2 for a
-usage error.
+with `--basis all`, when some candidate passes every check), 1 when a check fails, 3 when
+nothing fails but a case of a run over cases was stopped by --case-timeout/--case-memory, 2
+for a usage error.
 """
 from __future__ import annotations
 
@@ -16,6 +17,7 @@ from ringmatch.presentations import schubert_bases as sb
 from ringmatch.presentations import schubert_files
 
 from . import algebra
+from . import limited
 from . import schubert as engine
 
 
@@ -38,6 +40,14 @@ def add_arguments(p, *, flag_argument, presentation_list, prime_argument, non_ne
                         "e.g. 'P2;Gr(2,4);Gr(2,5)'): one line (or JSON object) per case")
     p.add_argument("--stop-at-first", action="store_true",
                    help="with --up-to or --cases: stop at the first case where a check fails")
+    from .sweep_command import _positive_float
+    p.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",
+                   help="with --up-to or --cases: stop a case after this many seconds; it is "
+                        "reported as not decided, not stored, and the run goes on (exit "
+                        "status 3 when nothing fails but a case was stopped)")
+    p.add_argument("--case-memory", type=non_negative_int, metavar="MiB",
+                   help="with --up-to or --cases: memory one case may allocate; beyond it, "
+                        "as --case-timeout")
     p.add_argument("--store", metavar="FILE",
                    help="with --up-to or --cases: keep each case's result (every constant, the "
                         "checks) as a row of this results store (SQLite); cases stored there "
@@ -123,6 +133,12 @@ def _run(args) -> int:
         raise engine.SchubertError("give one case, --up-to N or --cases 'A;B' (one of them)")
     if getattr(args, "store", None) is not None and args.case is not None:
         raise engine.SchubertError("--store goes with --up-to or --cases")
+    for option, value in (("--case-timeout", args.case_timeout),
+                          ("--case-memory", args.case_memory)):
+        if value is not None and args.case is not None:
+            raise engine.SchubertError(f"{option} goes with --up-to or --cases")
+    if args.case_memory == 0:
+        raise engine.SchubertError("--case-memory 0: give a positive number of MiB")
     if args.out is not None:
         _usable_folder(args.out)
     if args.up_to is not None or cases is not None:
@@ -272,7 +288,7 @@ def _sweep(args, report) -> int:
     conn, settings = _open_store(args)
     stored_rows = {} if conn is None else _stored_rows(conn, settings)
     run = None
-    failed = False
+    failed = undecided = False
     try:
         for flag in flags:
             stored = _stored(args, flag) if args.out is not None and conn is None else None
@@ -287,31 +303,23 @@ def _sweep(args, report) -> int:
                 summary = {"case": flag.name, "passed": ok, "stored": True}
             else:
                 started = time.monotonic()
-                results, comparisons = _case(args, flag, args.seed)
+                outcome = limited.run_limited(lambda: _computed_case(args, flag, report),
+                                              seconds=args.case_timeout,
+                                              memory_mib=args.case_memory)
                 seconds = time.monotonic() - started
-                ok = _passed(results, comparisons)
-                differences = [c["difference"] for c in comparisons]
-                summary = {"case": flag.name, "passed": ok,
-                           "runs": [{"presentation": r.presentation, "basis": r.basis.name,
-                                     "checks": {c["name"]: c["passed"] for c in r.checks}}
-                                    for r in results],
-                           "same_table": all(d is None for d in differences)}
-                line = f"{flag.name:<10} " + "; ".join(
-                    f"{r.presentation}/{r.basis.name}: " + (
-                        "all checks pass" if r.passed else "fails " + ", ".join(
-                            c["name"] for c in r.checks if not c["passed"]))
-                    for r in results)
-                if differences:
-                    line += "; tables " + ("agree" if all(d is None for d in differences)
-                                           else "DIFFER")
-                payload = _payload(report, results, comparisons)
-                if args.out is not None:
-                    _write(args, flag, report, results, payload, ok)
-                if conn is not None:
-                    from . import store
-                    run = run or store.run_record()
-                    store.save_schubert(conn, settings, flag.name, payload, ok, seconds,
-                                        run=run)
+                if isinstance(outcome, limited.Stopped):
+                    # Not stored: a later run (perhaps with a larger limit) computes it.
+                    ok, undecided = True, True
+                    summary = {"case": flag.name, "passed": None, "stopped": outcome.reason}
+                    line = (f"{flag.name:<10} not decided ({outcome.reason}); not stored, "
+                            "so a later run computes it again")
+                else:
+                    ok, summary, line = outcome["ok"], outcome["summary"], outcome["line"]
+                    if conn is not None:
+                        from . import store
+                        run = run or store.run_record()
+                        store.save_schubert(conn, settings, flag.name, outcome["payload"], ok,
+                                            seconds, run=run)
             print(json.dumps(summary) if args.json else line, flush=True)
             failed = failed or not ok
             if failed and args.stop_at_first:
@@ -321,7 +329,32 @@ def _sweep(args, report) -> int:
             from . import store
             store.release(conn)
             conn.close()
-    return 1 if failed else 0
+    return 1 if failed else 3 if undecided else 0
+
+
+def _computed_case(args, flag, report) -> dict:
+    """One case of a sweep, computed (under --case-timeout/--case-memory in a child process,
+    so what comes back is plain data): the summary, its line, the payload to store, and the
+    --out files written."""
+    results, comparisons = _case(args, flag, args.seed)
+    ok = _passed(results, comparisons)
+    differences = [c["difference"] for c in comparisons]
+    summary = {"case": flag.name, "passed": ok,
+               "runs": [{"presentation": r.presentation, "basis": r.basis.name,
+                         "checks": {c["name"]: c["passed"] for c in r.checks}}
+                        for r in results],
+               "same_table": all(d is None for d in differences)}
+    line = f"{flag.name:<10} " + "; ".join(
+        f"{r.presentation}/{r.basis.name}: " + (
+            "all checks pass" if r.passed else "fails " + ", ".join(
+                c["name"] for c in r.checks if not c["passed"]))
+        for r in results)
+    if differences:
+        line += "; tables " + ("agree" if all(d is None for d in differences) else "DIFFER")
+    payload = _payload(report, results, comparisons)
+    if args.out is not None:
+        _write(args, flag, report, results, payload, ok)
+    return {"ok": ok, "summary": summary, "line": line, "payload": payload}
 
 
 def _sweep_flags(args) -> list:

@@ -123,3 +123,26 @@ def test_store_needs_several_cases_and_cases_are_checked():
     assert done.returncode == 2 and done.stderr.count("\n") == 1
     done = run_in_process("schubert", "--cases", "P2", "--up-to", "3")
     assert done.returncode == 2 and "one of them" in done.stderr
+
+
+def test_a_case_past_its_time_limit_is_not_decided_and_not_stored(tmp_path):
+    # bethe computes in the Chern roots: Gr(3;6) takes seconds there, P1 milliseconds.
+    path = tmp_path / "limited.db"
+    done = run_in_process("schubert", "--cases", "P1;Gr(3,6)", "--presentation", "bethe",
+                          "--case-timeout", "0.5", "--seed", SEED, "--store", path)
+    assert done.returncode == 3, done.stderr
+    first, second = done.stdout.splitlines()
+    assert first.startswith("P1") and "all checks pass" in first
+    assert second.startswith("Gr(3;6)") and "not decided" in second and \
+        "--case-timeout 0.5" in second
+    assert [row["case"] for row in store.load_schubert_results(path)] == ["P1"]
+
+
+@pytest.mark.parametrize("options, message", [
+    (["P2", "--case-timeout", "3"], "--case-timeout goes with --up-to or --cases"),
+    (["--up-to", "3", "--case-memory", "0"], "--case-memory 0"),
+    (["--up-to", "3", "--case-timeout", "-1"], "--case-timeout"),
+])
+def test_limits_outside_a_run_over_cases_are_usage_errors(options, message):
+    done = run_in_process("schubert", *options)
+    assert done.returncode == 2 and message in done.stderr and done.stderr.count("\n") == 1
