@@ -516,7 +516,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="independent primes/specialisations; all must agree")
     from .engine import METHODS
     p.add_argument("--method", choices=METHODS, default="auto",
-                   help="auto: Gröbner bases up to colength 150, Bethe points always")
+                   help="auto (default): Bethe points first as a filter, then the exact "
+                        "route (Gröbner bases at a specialisation) up to rank 5040; both: the "
+                        "same at any rank; groebner: the exact route alone; points: Bethe "
+                        "points alone (at most 'consistent')")
     p.add_argument("--json", action="store_true", help="one JSON object on stdout")
     from .sweep_command import _positive_float
     p.add_argument("--case-timeout", type=_positive_float, metavar="SECONDS",

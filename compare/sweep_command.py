@@ -70,7 +70,8 @@ def add_arguments(parser, *, presentation_list, prime_argument, positive_int) ->
                              "2 + the largest q-degree among the relations)")
     parser.add_argument("--trials", type=positive_int, default=1)
     from .engine import METHODS
-    parser.add_argument("--method", choices=METHODS, default="auto")
+    parser.add_argument("--method", choices=METHODS, default="auto",
+                        help="as for check (default auto: the exact route up to rank 5040)")
     from .sizes import OVERRIDE
     parser.add_argument(OVERRIDE, dest="no_size_limit", action="store_true",
                         help="start even a case the size estimate says cannot finish")
