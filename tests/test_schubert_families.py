@@ -130,6 +130,10 @@ BAD_CLASSES = [
      "integer coefficients, not 1/2"),
     ('{ for = "a = 0..n-1", label = "[{a - 5}]", expr = "(1 - S1_1)^a" }', "negative part"),
     ('{ for = "a = 0..n-1", label = "[{a}]", expr = "(1 - S1_1)^(a" }', ""),
+    ('{ for = "a = 0..n-1", label = "[{a}]", expr = "(1 - x_1(S_1))^a" }',
+     "no generator means x_1(S_1) in this presentation (its generators: S1_1,"),
+    ('{ for = "a = 0..10^9", label = "[{a}]", expr = "1" }', "is too long"),
+    ('{ for = "a = 0..n-1", label = "[{a}]", expr = "(1 - S1_1)^100000" }', "degree exceeds"),
 ]
 
 

@@ -216,16 +216,20 @@ def expand_classes(family: SchubertFamily, flag: FlagType, generators) -> List[T
 def _with_generators(error: PresentationFileError, generators) -> PresentationFileError:
     """An unknown name in a Schubert class most often is a generator of another presentation:
     name the nearest generator of this one, and all of them."""
-    match = re.match(r"unknown symbol '([^']*)'$", error.message)
-    if not match:
-        return error
     names = [g.name for g in generators]
-    nearest = difflib.get_close_matches(match.group(1), names, n=1)
-    hint = f"did you mean {nearest[0]}? " if nearest else ""
     shown = ", ".join(names[:12]) + (", …" if len(names) > 12 else "")
-    return PresentationFileError(f"{error.message} ({hint}this presentation's generators: "
-                                 f"{shown}; or write a meaning such as lambda_1(S_1))",
-                                 error.file, error.line, error.column)
+    match = re.match(r"unknown symbol '([^']*)'$", error.message)
+    missing = re.match(r"(no generator means [^;]*);", error.message)
+    if match:
+        nearest = difflib.get_close_matches(match.group(1), names, n=1)
+        hint = f"did you mean {nearest[0]}? " if nearest else ""
+        message = (f"{error.message} ({hint}this presentation's generators: {shown}; or write "
+                   "a meaning such as lambda_1(S_1))")
+    elif missing:
+        message = f"{missing.group(1)} in this presentation (its generators: {shown})"
+    else:
+        return error
+    return PresentationFileError(message, error.file, error.line, error.column)
 
 
 def _walk(entries, env: dict, st: _State) -> Iterator[Tuple[object, dict, Loc, int]]:
