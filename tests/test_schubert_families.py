@@ -177,3 +177,9 @@ def test_too_few_classes_for_the_rank(tmp_path, capsys):
     path.write_text(Path(POWERS).read_text().replace("a = 0..n-1", "a = 0..n-2"))
     assert main(["schubert", "P3", "--basis", str(path)]) == 2
     assert "has 3 elements; P3 has rank 4" in capsys.readouterr().err
+
+
+def test_a_basis_file_given_as_a_presentation_says_what_it_is(capsys):
+    assert main(["check", "P1", "--presentations", f"whitney,{POWERS}"]) == 2
+    err = capsys.readouterr().err
+    assert "holds only a Schubert basis" in err and "--basis" in err and err.count("\n") == 1

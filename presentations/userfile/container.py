@@ -381,6 +381,9 @@ _ENTRY_KEYS = {
 def _read_spec(data: dict, locator: StringLocator) -> FileSpec:
     top = locator.key("")
     flavour = data.get("flavour")
+    if flavour is None and set(data) == {"schubert"}:
+        fail(top, "this file holds only a Schubert basis ([schubert] table), not a "
+                  "presentation: give it to `ringmatch schubert --basis`")
     if flavour is None:
         fail(top, "missing key 'flavour' (\"case\" or \"family\")")
     if flavour not in _TOP_KEYS:
