@@ -1,6 +1,6 @@
 """Speed of `ringmatch schubert`: full non-equivariant multiplication tables.
 
-    python benchmarks/schubert.py [--quick] [--seed S] [--candidates]
+    python benchmarks/schubert.py [--quick] [--seed S] [--candidates] [--bethe]
 
 For every case the table of all products O_λ ⋆ O_μ of the built-in basis groth:S:1-x in the
 whitney presentation is computed (every N_{λμ}^ν(q) exactly) with all checks.  The K-theoretic
@@ -12,6 +12,9 @@ the fraction used.  Times are CPU seconds of this process (the machine is shared
 wall-clock time of the whole run is printed at the end.
 
 --candidates also prints, for Gr(k;n) with n ≤ 6, which built-in candidates pass every check.
+--bethe also times the table in `bethe`, whose quotient in the Chern roots is ∏k_i! times
+larger, against the former way of building the multiplication matrices (normal forms of every
+standard monomial times the polynomial; full matrices of every monomial) as the reference.
 """
 from __future__ import annotations
 
@@ -20,6 +23,7 @@ import sys
 import time
 from pathlib import Path
 
+import flint
 from tabulate import tabulate
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -73,11 +77,67 @@ def candidates(seed: int) -> None:
     print(tabulate(rows, headers=["case", "candidates passing every check"]))
 
 
+# The multiplication matrices as they were built before: one normal form per standard
+# monomial for every matrix, and every monomial's full D×D matrix before multiplying by B.
+# Kept here as the reference that --bethe measures against in the same run.
+
+def _matrix_by_normal_forms(self, poly):
+    columns = self.vectors([poly * self.monomial(m) for m in self.monomials])
+    return flint.nmod_mat(self.dim, self.dim,
+                          [columns[c][r] for r in range(self.dim) for c in range(self.dim)],
+                          self.prime)
+
+
+def _images_by_full_matrices(self, B):
+    nvars = len(self.ctx.names())
+    generators = [None] * nvars
+    out = {tuple([0] * nvars): schubert._identity(self.dim, self.prime)}
+    for b in sorted(self.monomials, key=sum):
+        if sum(b) == 0:
+            continue
+        g = next(i for i, e in enumerate(b) if e)
+        if generators[g] is None:
+            generators[g] = _matrix_by_normal_forms(self, self.ctx.gens()[g])
+        smaller = list(b)
+        smaller[g] -= 1
+        out[b] = generators[g] * out[tuple(smaller)]
+    return [out[b] * B for b in self.monomials]
+
+
+def bethe_table(case: str, seed: int, reference: bool) -> float:
+    flag = parse_flag(case)
+    basis = schubert.candidate_basis(flag, sb.candidate_named("groth:S:1-x"))
+    saved = schubert.Quotient.matrix, schubert.Quotient.monomial_images
+    if reference:
+        schubert.Quotient.matrix = _matrix_by_normal_forms
+        schubert.Quotient.monomial_images = _images_by_full_matrices
+    try:
+        start = time.process_time()
+        result = schubert.structure_constants(flag, get_family("bethe"), basis, seed=seed)
+        assert result.passed
+        return time.process_time() - start
+    finally:
+        schubert.Quotient.matrix, schubert.Quotient.monomial_images = saved
+
+
+def bethe(seed: int, quick: bool) -> None:
+    rows = []
+    for case in (["Gr(2;5)", "Gr(3;6)"] if quick else ["Gr(2;5)", "Gr(3;6)", "Gr(4;6)"]):
+        ours = bethe_table(case, seed, reference=False)
+        before = bethe_table(case, seed, reference=True)
+        rows.append([case, f"{ours:.2f}", f"{before:.2f}", f"{before / ours:.1f}"])
+    print(tabulate(rows, headers=["case (bethe)", "CPU s", "reference CPU s",
+                                  "reference / ours"]))
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help=f"only {', '.join(QUICK_CASES)}")
     parser.add_argument("--seed", type=int, default=1)
     parser.add_argument("--candidates", action="store_true")
+    parser.add_argument("--bethe", action="store_true",
+                        help="also the table in bethe (Chern roots), against the former "
+                             "linear algebra as the reference")
     args = parser.parse_args()
     wall = time.perf_counter()
     rows = [run(case, args.seed) for case in (QUICK_CASES if args.quick else CASES)]
@@ -86,6 +146,9 @@ def main() -> None:
     if args.candidates:
         print()
         candidates(args.seed)
+    if args.bethe:
+        print()
+        bethe(args.seed, args.quick)
     print(f"\nwall clock {time.perf_counter() - wall:.1f} s")
 
 

@@ -111,6 +111,8 @@ class Quotient:
             raise SchubertError(f"quotient of dimension above {MAX_DIMENSION}") from None
         self.index = {m: i for i, m in enumerate(self.monomials)}
         self.dim = len(self.monomials)
+        self._powers = None         # exponents → matrix of that monomial, built on demand
+        self._generators = None
 
     def vectors(self, polys: Sequence) -> List[List[int]]:
         out = []
@@ -125,31 +127,75 @@ class Quotient:
         return flint.nmod_mat(self.dim, 1, self.vectors([poly])[0], self.prime)
 
     def matrix(self, poly):
-        """Multiplication by `poly`, column b the coordinates of poly·b."""
-        columns = self.vectors([poly * self.monomial(m) for m in self.monomials])
-        return flint.nmod_mat(self.dim, self.dim,
-                              [columns[c][r] for r in range(self.dim) for c in range(self.dim)],
-                              self.prime)
+        """Multiplication by `poly`, column b the coordinates of poly·b: poly evaluated at
+        the generators' multiplication matrices (a product of D×D matrices per monomial of
+        poly, instead of D normal forms of poly times a standard monomial)."""
+        total = flint.nmod_mat(self.dim, self.dim, self.prime)
+        for exponents, coefficient in poly.terms():
+            total = total + self._monomial_matrix(tuple(exponents)) * int(coefficient)
+        return total
+
+    def _monomial_matrix(self, exponents: Tuple[int, ...]):
+        if self._powers is None:
+            self._powers = {tuple([0] * len(exponents)): _identity(self.dim, self.prime)}
+            self._generators = [None] * len(exponents)
+        if exponents not in self._powers:
+            g = next(i for i, e in enumerate(exponents) if e)
+            smaller = list(exponents)
+            smaller[g] -= 1
+            self._powers[exponents] = self._generator(g) * self._monomial_matrix(tuple(smaller))
+        return self._powers[exponents]
+
+    def generator_matrix(self, g: int):
+        """Multiplication by the g-th variable: x_g·b is itself a standard monomial for most
+        standard b (a unit column); only the others, on the border, need a normal form."""
+        columns: List[Optional[List[int]]] = [None] * self.dim
+        border, border_columns = [], []
+        for c, b in enumerate(self.monomials):
+            shifted = list(b)
+            shifted[g] += 1
+            target = self.index.get(tuple(shifted))
+            if target is None:
+                border.append(self.monomial(shifted))
+                border_columns.append(c)
+            else:
+                columns[c] = target
+        entries = [0] * (self.dim * self.dim)
+        for c, target in enumerate(columns):
+            if target is not None:
+                entries[target * self.dim + c] = 1
+        for c, vector in zip(border_columns, self.vectors(border)):
+            for r, value in enumerate(vector):
+                if value:
+                    entries[r * self.dim + c] = value
+        return flint.nmod_mat(self.dim, self.dim, entries, self.prime)
 
     def monomial(self, exponents):
         return self.ctx.from_dict({tuple(exponents): 1})
 
-    def monomial_matrices(self) -> list:
-        """X^b for every standard monomial b (each from a smaller one by one product:
-        every divisor of a standard monomial is standard)."""
+    def monomial_images(self, B) -> list:
+        """X^b·B for every standard monomial b, in the order of `monomials`: each from a
+        smaller monomial's by one product with a generator's multiplication matrix (every
+        divisor of a standard monomial is standard).  That is D products of D×D by D×r;
+        forming the D×D matrices X^b first would take D products of D×D by D×D, which for
+        the Chern roots of `bethe` (D = rank·∏k_i!) dominated everything."""
         nvars = len(self.ctx.names())
-        generators = [None] * nvars
-        out = {tuple([0] * nvars): _identity(self.dim, self.prime)}
+        out = {tuple([0] * nvars): B}
         for b in sorted(self.monomials, key=sum):
             if sum(b) == 0:
                 continue
             g = next(i for i, e in enumerate(b) if e)
-            if generators[g] is None:
-                generators[g] = self.matrix(self.ctx.gens()[g])
             smaller = list(b)
             smaller[g] -= 1
-            out[b] = generators[g] * out[tuple(smaller)]
+            out[b] = self._generator(g) * out[tuple(smaller)]
         return [out[b] for b in self.monomials]
+
+    def _generator(self, g: int):
+        if self._generators is None:
+            self._monomial_matrix(tuple([0] * len(self.ctx.names())))
+        if self._generators[g] is None:
+            self._generators[g] = self.generator_matrix(g)
+        return self._generators[g]
 
 
 def _identity(size: int, prime: int):
@@ -282,8 +328,8 @@ def evaluate(family: Family, flag: FlagType, basis: Basis, q: Sequence[int],
     pivots = _independent_rows(B)
     # All products: P[λ, row·r + μ] = Σ_b B[b, λ]·(X^b B)[row, μ].
     stacked = []
-    for X in quotient.monomial_matrices():
-        stacked.extend((X * B).entries())
+    for XB in quotient.monomial_images(B):
+        stacked.extend(XB.entries())
     P = B.transpose() * flint.nmod_mat(D, D * r, stacked, prime)
     entries = [int(x) for x in P.entries()]
     # products[row][λ·r + μ]
