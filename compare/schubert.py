@@ -309,13 +309,21 @@ class Evaluation:
 
 
 def evaluate(family: Family, flag: FlagType, basis: Basis, q: Sequence[int],
-             prime: int, weights: Optional[Sequence[int]] = None) -> Evaluation:
+             prime: int, weights: Optional[Sequence[int]] = None,
+             quotients: Optional[dict] = None) -> Evaluation:
+    """N(q) for one q.  `quotients`, when given, keeps each specialisation's quotient (its
+    Gröbner basis and multiplication matrices) for later calls with the same family, so that
+    several candidate bases at the same q values cost one Gröbner basis per q."""
     spec = algebra.Specialisation(prime, tuple(weights or [1] * flag.n), tuple(q))
-    try:
-        ideal = own_ideal(family, flag, spec)
-    except PresentationError as error:
-        raise SchubertError(str(error)) from None
-    quotient = Quotient(ideal.ring, ideal.basis)
+    quotient = quotients.get(spec) if quotients is not None else None
+    if quotient is None:
+        try:
+            ideal = own_ideal(family, flag, spec)
+        except PresentationError as error:
+            raise SchubertError(str(error)) from None
+        quotient = Quotient(ideal.ring, ideal.basis)
+        if quotients is not None:
+            quotients[spec] = quotient
     if basis.candidate is not None:
         columns = candidate_vectors(quotient, family, flag, basis)
     else:
@@ -410,7 +418,8 @@ def _q_value(rng: random.Random, prime: int, m: int, used: set) -> Tuple[int, ..
 def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: Optional[int] = None,
                         prime: int = algebra.DEFAULT_PRIME,
                         degree_bound: Optional[int] = None,
-                        equivariant: bool = False) -> SchubertResult:
+                        equivariant: bool = False,
+                        quotients: Optional[dict] = None) -> SchubertResult:
     """All N_{λμ}^ν(q) and the checks.  Equivariantly (T at random residues drawn from the
     seed) the coefficients are residues mod p, not integers, and only the checks that make
     sense for a specialised T run (basis, finiteness, classical ring)."""
@@ -438,7 +447,7 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
     evaluations = []
     notes: List[str] = []
     for q in points + [extra, tuple([0] * m)]:
-        evaluation = evaluate(family, flag, basis, q, prime, weights)
+        evaluation = evaluate(family, flag, basis, q, prime, weights, quotients)
         if not any(q) and evaluation.dimension != evaluations[0].dimension:
             # e.g. the Bethe equations at T = 1: roots collide at q = 0 and the inverted
             # Vandermonde kills the ring, so q = 0 is no point of the family.
@@ -776,11 +785,13 @@ def first_difference(a: SchubertResult, b: SchubertResult) -> Optional[dict]:
 # ---------------------------------------------------------------------------------------
 # Choosing among the built-in candidates
 
-def classical_screen(flag: FlagType, family: Family, basis: Basis, prime: int) -> Optional[bool]:
+def classical_screen(flag: FlagType, family: Family, basis: Basis, prime: int,
+                     quotients: Optional[dict] = None) -> Optional[bool]:
     """Whether the candidate's products at q = 0 are the K-theoretic Littlewood–Richardson
     coefficients (a necessary condition, one Gröbner basis); None when the presentation
     does not specialise to q = 0 with the rank as dimension (then only the full run says)."""
-    evaluation = evaluate(family, flag, basis, tuple([0] * flag.m), prime)
+    evaluation = evaluate(family, flag, basis, tuple([0] * flag.m), prime,
+                          quotients=quotients)
     if evaluation.dimension != flag.rank:
         return None
     if evaluation.constants is None:
@@ -801,15 +812,18 @@ def choose_candidate(flag: FlagType, family: Family, *, seed: Optional[int], pri
                                      prime=prime, degree_bound=degree_bound, equivariant=True)
         result.notes[:0] = chosen.notes
         return result
+    # One seed for all candidates: the same q values, so each q's quotient is computed once.
+    seed = random.SystemRandom().randrange(2**32) if seed is None else seed
+    quotients: dict = {}
     rejected, first = [], None
     for candidate in sb.CANDIDATES:
         basis = candidate_basis(flag, candidate)
-        if classical_screen(flag, family, basis, prime) is False:
+        if classical_screen(flag, family, basis, prime, quotients) is False:
             rejected.append(f"{candidate.name} (classical products at q = 0 are not the "
                             "K-theoretic Littlewood-Richardson coefficients)")
             continue
         result = structure_constants(flag, family, basis, seed=seed, prime=prime,
-                                     degree_bound=degree_bound)
+                                     degree_bound=degree_bound, quotients=quotients)
         if result.passed:
             result.notes.insert(0, "basis chosen automatically: the first built-in candidate "
                                    "that passes every check" + (

@@ -257,10 +257,11 @@ def _all_candidates(args, flag, options, report) -> int:
     outcomes, payload = {}, []
     for name in args.presentation:
         family = get_family(name, _values(args))
+        quotients: dict = {}        # the same q values for every candidate: one basis per q
         for candidate in sb.CANDIDATES:
             result = engine.structure_constants(flag, family,
                                                 engine.candidate_basis(flag, candidate),
-                                                **options)
+                                                quotients=quotients, **options)
             options["seed"] = result.certificate["seed"]
             label = candidate.name if len(args.presentation) == 1 else \
                 f"{candidate.name} in {family.name}"
