@@ -77,6 +77,44 @@ def trial_prime(prime: int, trial: int) -> int:
     return candidate
 
 
+def next_prime_below(candidate: int) -> int:
+    candidate -= 1
+    while candidate >= 3 and not flint.fmpz(candidate).is_prime():
+        candidate -= 1
+    return candidate
+
+
+def usable_primes(prime: int, count: int, families: Sequence[Family], flag: FlagType,
+                  extra: Sequence[int] = ()) -> Tuple[List[int], Optional[str]]:
+    """`count` distinct primes from `prime` down (trial t's prime, as `trial_prime`), each
+    skipping any prime that divides an integer written in a presentation's relations or units
+    (or in `extra`): reduced mod such a prime a relation would silently lose a term, and the
+    comparison would be of other ideals.  The note says which primes were passed over."""
+    written = set(extra)
+    for family in families:
+        try:
+            written.update(family.integers(flag))
+        except InputError:
+            pass                      # the family's own error comes when it is built
+    primes, skipped = [], []
+    candidate = prime
+    while len(primes) < count:
+        if candidate < 3:
+            raise InputError(f"prime {prime}: too small for {count} trials with distinct primes")
+        divides = next((w for w in written if w % candidate == 0), None)
+        if divides is None:
+            primes.append(candidate)
+        else:
+            skipped.append((candidate, divides))
+        candidate = next_prime_below(candidate)
+    if not skipped:
+        return primes, None
+    shown = "; ".join(f"{p} divides {str(w) if len(str(w)) <= 40 else str(w)[:20] + '…'}"
+                      for p, w in skipped[:3])
+    return primes, (f"primes passed over because they divide an integer written in the "
+                    f"input ({shown}); used {', '.join(map(str, primes))}")
+
+
 def trial_specialisations(flag: FlagType, seed: int, prime: int, equivariant: bool):
     """Residues for q (Gröbner route) and a line for q (points route), same weights."""
     residues = algebra.draw_specialisation(flag.n, flag.m, seed=seed, prime=prime,
@@ -783,9 +821,10 @@ def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int
     order_source = "given"
     if order is None:
         order, order_source = truncation_order(families, flag), "2 + largest q-degree"
+    primes, prime_note = usable_primes(prime, trials, families, flag)
     outcomes = []
     for t in range(trials):
-        outcome = run_trial(flag, families, seed=seed + t, prime=trial_prime(prime, t),
+        outcome = run_trial(flag, families, seed=seed + t, prime=primes[t],
                             equivariant=equivariant, order=order, method=method,
                             budget=budget)
         outcome.verdict, outcome.reason = overall_verdict(
@@ -800,7 +839,7 @@ def check_case(flag: FlagType, families: Sequence[Family], *, seed: Optional[int
          + ", ".join(o.verdict for o in outcomes))
     certificate = replace(first.certificate, seed=seed, order_source=order_source,
                           exact=first.certificate.exact and len(verdicts) == 1,
-                          trials=[o.certificate for o in outcomes])
+                          trials=[o.certificate for o in outcomes], prime_note=prime_note)
     return CaseResult(flag.name, flag.rank, equivariant, verdict, reason, certificate,
                       exact=certificate.exact, presentations=first.presentations,
                       pairs=first.pairs, timings=first.timings)

@@ -99,9 +99,11 @@ class IsoInputError(InputError):
 # ---------------------------------------------------------------------------------------
 # The whole search
 
-def _prime_sequence(prime: int, count: int) -> List[int]:
-    from .engine import trial_prime
-    return [trial_prime(prime, t) for t in range(count)]
+def _prime_sequence(prime: int, count: int, families, flag: FlagType) -> List[int]:
+    """Distinct primes from `prime` down, none dividing an integer written in either
+    presentation (engine.usable_primes)."""
+    from .engine import usable_primes
+    return usable_primes(prime, count, families, flag)[0]
 
 
 def find_isomorphism(flag: FlagType, source: Family, target: Family, *,
@@ -122,7 +124,7 @@ def find_isomorphism(flag: FlagType, source: Family, target: Family, *,
                         tuple(g.name for g in generators[1]))
     backward = Direction(target.name, source.name, forward.target_generators,
                          forward.source_generators)
-    primes = _prime_sequence(prime, bounds.max_primes + 2)
+    primes = _prime_sequence(prime, bounds.max_primes + 2, (source, target), flag)
     certificate = {"seed": seed, "search": {}, "kind": "probabilistic"}
     result = IsoResult(flag.name, source.name, target.name, False, False, "inconclusive", "",
                        forward, backward, bounds.record(), certificate)

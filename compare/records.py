@@ -248,6 +248,7 @@ class Certificate:
     sweep_seed: Optional[int] = None
     limits: Optional[dict] = None         # {"seconds", "memory_mib"[, "enforced"]}
     failed_attempts: Optional[int] = None
+    prime_note: Optional[str] = None      # primes passed over (they divide a written integer)
     extra: Dict[str, Any] = field(default_factory=dict)   # keys of no field, kept as read
 
     def to_json(self) -> dict:

@@ -426,6 +426,7 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
     check_labels(flag, basis)
     if seed is None:
         seed = random.SystemRandom().randrange(2**32)
+    prime, prime_note = _usable_prime(prime, flag, family, basis)
     bound = default_degree_bound(flag) if degree_bound is None else degree_bound
     m = flag.m
     monomials = q_monomials(m, bound + 1)
@@ -445,7 +446,7 @@ def structure_constants(flag: FlagType, family: Family, basis: Basis, *, seed: O
     r = len(basis.labels)
     checks: List[dict] = []
     evaluations = []
-    notes: List[str] = []
+    notes: List[str] = [prime_note] if prime_note else []
     for q in points + [extra, tuple([0] * m)]:
         evaluation = evaluate(family, flag, basis, q, prime, weights, quotients)
         if not any(q) and evaluation.dimension != evaluations[0].dimension:
@@ -785,6 +786,15 @@ def first_difference(a: SchubertResult, b: SchubertResult) -> Optional[dict]:
 # ---------------------------------------------------------------------------------------
 # Choosing among the built-in candidates
 
+def _usable_prime(prime: int, flag: FlagType, family: Family, basis: Basis):
+    """`prime`, or the next smaller one that divides no integer written in the presentation
+    or in the basis' polynomials (mod such a prime a term would silently vanish)."""
+    from .engine import usable_primes
+    written = {abs(c) for poly in (basis.polynomials or ()) for c in poly.values() if abs(c) > 1}
+    primes, note = usable_primes(prime, 1, [family], flag, sorted(written))
+    return primes[0], note
+
+
 def classical_screen(flag: FlagType, family: Family, basis: Basis, prime: int,
                      quotients: Optional[dict] = None) -> Optional[bool]:
     """Whether the candidate's products at q = 0 are the K-theoretic Littlewood–Richardson
@@ -814,6 +824,8 @@ def choose_candidate(flag: FlagType, family: Family, *, seed: Optional[int], pri
         return result
     # One seed for all candidates: the same q values, so each q's quotient is computed once.
     seed = random.SystemRandom().randrange(2**32) if seed is None else seed
+    from .engine import usable_primes
+    (prime,), _ = usable_primes(prime, 1, [family], flag)
     quotients: dict = {}
     rejected, first = [], None
     for candidate in sb.CANDIDATES:

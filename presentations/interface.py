@@ -8,6 +8,10 @@ A family is a plain record of functions (no class hierarchy):
                                   (the engine adjoins one inverse for their product);
 * `expected_colength(flag)`     → colength of a correct presentation (usually the rank);
 * `unsupported(flag)`           → None, or the reason the family has nothing for this flag;
+* `integers(flag)`              → the integers written in the relations and units
+                                  (numerators and denominators of their coefficients), so
+                                  that a computation mod p can avoid a prime dividing one
+                                  (which would silently drop a term); () when not known;
 * `solved_by_points`            → True for the Bethe equations themselves: the lifted Bethe
                                   points are their solutions, and the ring they present is by
                                   definition the ring of functions on those points
@@ -56,6 +60,7 @@ class Family:
     expected_colength: Callable[[FlagType], int] = lambda flag: flag.rank
     unsupported: Callable[[FlagType], Optional[str]] = lambda flag: None
     solved_by_points: bool = False
+    integers: Callable[[FlagType], Tuple[int, ...]] = lambda flag: ()
 
 
 @dataclass(frozen=True)

@@ -36,6 +36,8 @@ def certificate_line(certificate: Certificate) -> str:
     if len(certificate.trials) > 1:
         parts.append(f"{len(certificate.trials)} trials")
     parts.append(certificate.kind or "probabilistic")
+    if certificate.prime_note:
+        parts.append(certificate.prime_note)
     return ", ".join(parts)
 
 

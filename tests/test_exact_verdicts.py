@@ -157,3 +157,41 @@ def test_exit_statuses():
                           "--seed", "3", "--method", "points", "--order", "6").returncode == 3
     assert run_in_process("check", "Gr(2,4)", "--presentations", "whitney",
                           "--trials", "0").returncode == 2
+
+
+def _multiple_of_prime(tmp_path, prime, name="prime-multiple"):
+    # late-q with its extra term multiplied by the prime: mod that prime the file would be
+    # the q-Whitney family itself, over Q it is not.
+    text = (HERE / "perturbations" / "late-q.toml").read_text()
+    text = text.replace('name = "late-q"', f'name = "{name}"')
+    text = text.replace("+ q_i^8 * y^{d_i}", f"+ {prime} * q_i * y^{{d_i}}")
+    path = tmp_path / f"{name}.toml"
+    path.write_text(text)
+    return get_family(str(path))
+
+
+@pytest.mark.parametrize("prime", [SMALL_PRIME, 4611686018427387847])
+def test_a_coefficient_divisible_by_the_prime_never_gives_agree(tmp_path, prime):
+    # Reduced mod p the extra term vanishes and the two ideals coincide: computing there would
+    # give a false `agree`.  The engine passes over such primes and says so.
+    flag = parse_flag("Gr(2,4)")
+    perturbed = _multiple_of_prime(tmp_path, prime)
+    # ground truth at another prime (SymPy), where the extra term survives
+    assert not sympy_ideals_equal(flag, whitney.FAMILY, perturbed, SEED, prime=32009)
+    for method in ("auto", "groebner", "points"):
+        result = check_case(flag, [whitney.FAMILY, perturbed], seed=SEED, prime=prime,
+                            method=method, trials=2)
+        assert result.verdict == "disagree", (method, result.reason)
+        primes = [t.prime for t in result.certificate.trials]
+        assert prime not in primes and len(set(primes)) == 2
+        assert f"{prime} divides {prime}" in result.certificate.prime_note
+
+
+def test_a_prime_dividing_a_coefficient_is_refused_where_it_is_not_avoided(tmp_path):
+    from ringmatch.compare import algebra
+    from ringmatch.presentations.interface import build_specialised
+    from ringmatch.presentations.userfile import PresentationFileError
+    perturbed = _multiple_of_prime(tmp_path, SMALL_PRIME)
+    spec = algebra.Specialisation(SMALL_PRIME, (1, 2, 3, 4), (5,))
+    with pytest.raises(PresentationFileError, match=f"divisible by the prime {SMALL_PRIME}"):
+        build_specialised(perturbed, parse_flag("Gr(2,4)"), spec)

@@ -183,3 +183,16 @@ def test_a_basis_file_given_as_a_presentation_says_what_it_is(capsys):
     assert main(["check", "P1", "--presentations", f"whitney,{POWERS}"]) == 2
     err = capsys.readouterr().err
     assert "holds only a Schubert basis" in err and "--basis" in err and err.count("\n") == 1
+
+
+def test_a_basis_coefficient_divisible_by_the_prime_is_not_dropped(tmp_path, capsys):
+    # Mod the default prime the extra term vanishes and the classes would be O_a = (1 − S1_1)^a,
+    # which pass every check; over Q they are not those classes.  The prime is passed over.
+    prime = S.algebra.DEFAULT_PRIME
+    path = tmp_path / "multiple.toml"
+    path.write_text('[schubert]\n[[schubert.case]]\ncase = "P2"\n[schubert.case.classes]\n'
+                    f'"[]" = "1"\n"[1]" = "1 - S1_1 + {prime}*S1_1^2"\n"[2]" = "(1 - S1_1)^2"\n')
+    assert main(["schubert", "P2", "--basis", str(path), "--json", "--seed", str(SEED)]) == 1
+    payload = json.loads(capsys.readouterr().out)
+    assert payload["certificate"]["prime"] != prime
+    assert any(f"{prime} divides {prime}" in note for note in payload["notes"])

@@ -33,7 +33,7 @@ from typing import Dict, List, Mapping, Optional, Tuple
 from ..flagtype import FlagType
 from ..interface import Family, PresentationError, Relation, build_symbolic
 from .container import FileSpec, read_file, read_text
-from .expand import Expanded, expand, transport, unsupported_reason
+from .expand import Expanded, expand, transport, unsupported_reason, written_integers
 from .syntax import PresentationFileError, fail
 
 __all__ = ["PresentationFileError", "ParameterValuesMissing", "load_family", "load_spec",
@@ -207,9 +207,13 @@ def family_from_spec(spec: FileSpec, values: Values = None) -> Family:
     def unsupported(flag):
         return unsupported_reason(spec, flag)
 
+    @lru_cache(maxsize=16)
+    def integers(flag):
+        return written_integers(expanded(flag))
+
     description = spec.description or f"{spec.flavour} file {spec.file}"
     return Family(name, description, generators, relations, units, expected_colength,
-                  unsupported)
+                  unsupported, integers=integers)
 
 
 # ---------------------------------------------------------------------------------------

@@ -947,15 +947,28 @@ def _non_unit_factor(poly, at: Loc, st: _State) -> Optional[str]:
 # ---------------------------------------------------------------------------------------
 # Into a caller's ring
 
-class _PrimeDividesDenominator(ValueError):
+class _PrimeDividesCoefficient(ValueError):
     pass
 
 
+def written_integers(expanded: Expanded) -> Tuple[int, ...]:
+    """Every numerator and denominator (above 1 in size) of a coefficient of the relations
+    and units: a prime dividing one of them would drop a term or a whole relation mod p."""
+    out = set()
+    for poly in [p for _, p in expanded.relations] + list(expanded.units):
+        for c in poly.coeffs():
+            out.update(x for x in (abs(int(c.p)), int(c.q)) if x > 1)
+    return tuple(sorted(out))
+
+
 def transport(poly, expanded: Expanded, ring) -> object:
-    """The image of a canonical polynomial (without y) in `ring` (a compare.algebra.Ring)."""
+    """The image of a canonical polynomial (without y) in `ring` (a compare.algebra.Ring).
+    Mod a prime dividing a coefficient's numerator or denominator this refuses, rather than
+    give a polynomial that silently lost terms (the engine picks primes that avoid
+    `written_integers`; this is the guard for every other route)."""
     try:
         return _transport(poly, expanded, ring)
-    except _PrimeDividesDenominator as error:
+    except _PrimeDividesCoefficient as error:
         raise PresentationFileError(f"{error}; choose another prime", expanded.file) from None
 
 
@@ -1031,13 +1044,16 @@ def _substitute_monomials(poly, images: list, ctx, p: Optional[int]):
 
 
 def _residue(c, p: int) -> int:
+    numerator = int(c.p) % p
+    if numerator == 0 and c != 0:
+        raise _PrimeDividesCoefficient(f"the coefficient {c} is divisible by the prime {p}")
     if c.q == 1:
-        return int(c.p) % p
+        return numerator
     denominator = int(c.q) % p
     if denominator == 0:
-        raise _PrimeDividesDenominator(f"the denominator of the coefficient {c} is divisible by "
+        raise _PrimeDividesCoefficient(f"the denominator of the coefficient {c} is divisible by "
                                        f"the prime {p}")
-    return int(c.p) * pow(denominator, -1, p) % p
+    return numerator * pow(denominator, -1, p) % p
 
 
 def _inverse_constant(ring, q: int):
