@@ -58,7 +58,7 @@ class FileBasis:
 
 def has_schubert_table(path: str) -> bool:
     try:
-        return "schubert" in _read(path)
+        return "schubert" in _read(path)[0]
     except SchubertInputError:
         return False
 
@@ -77,9 +77,11 @@ def _text(path: str) -> str:
         raise SchubertInputError(f"{path}: not UTF-8 text") from None
 
 
-def _read(path: str) -> dict:
+def _read(path: str) -> Tuple[dict, str]:
+    """The file parsed, and its text."""
+    text = _text(path)
     try:
-        return tomllib.loads(_text(path))
+        return tomllib.loads(text), text
     except tomllib.TOMLDecodeError as error:
         raise SchubertInputError(f"{path}: not valid TOML: {error}") from None
     except (RecursionError, ValueError):
@@ -97,7 +99,8 @@ def load_basis(path: str, flag: FlagType, generators: Sequence[Generator] = ()) 
     [[schubert.family]] that applies to it (expanded against the presentation's
     `generators`), else the `grothendieck` candidate.  One-line errors naming the file and
     the key (file:line:col inside a family)."""
-    table = _read(path).get("schubert")
+    data, text = _read(path)
+    table = data.get("schubert")
     if not isinstance(table, dict):
         raise SchubertInputError(f"{path}: no [schubert] table")
     for key in table:
@@ -140,7 +143,7 @@ def load_basis(path: str, flag: FlagType, generators: Sequence[Generator] = ()) 
         return FileBasis(name, tuple(labels), tuple(polys), source=path,
                          classical=classical or None)
     if "family" in table:
-        basis = _family_basis(path, name, flag, generators)
+        basis = _family_basis(path, text, table["family"], name, flag, generators)
         if basis is not None:
             return basis
     if "grothendieck" in table:
@@ -154,11 +157,11 @@ def load_basis(path: str, flag: FlagType, generators: Sequence[Generator] = ()) 
                              "to it, nor a grothendieck family)")
 
 
-def _family_basis(path: str, name: str, flag: FlagType,
+def _family_basis(path: str, text: str, raw, name: str, flag: FlagType,
                   generators: Sequence[Generator]) -> Optional[FileBasis]:
     """The first [[schubert.family]] of the file that applies to flag, expanded; None when
     none applies."""
-    families = read_schubert_families(_text(path), path)
+    families = read_schubert_families(raw, text, path)
     family = next((f for f in families if applies(f.applies_to, flag)), None)
     if family is None:
         return None

@@ -538,7 +538,12 @@ def _applies_to(data: dict, locator: StringLocator) -> Tuple[str, ...]:
     if "applies_to" not in data:
         fail(locator.key(""), "missing key 'applies_to' (e.g. \"all\", \"grassmannians\", "
                               "\"complete\", or a list of those and flag types)")
-    raw = data["applies_to"]
+    return _applies_to_words(data["applies_to"], at)
+
+
+def _applies_to_words(raw, at: Loc) -> Tuple[str, ...]:
+    """An `applies_to` value (a string or a list of them): words of APPLIES_TO_WORDS and
+    canonical flag names."""
     items = [raw] if isinstance(raw, str) else raw
     if not isinstance(items, list) or not items or not all(isinstance(x, str) for x in items):
         fail(at, "applies_to must be a string or a non-empty list of strings")
@@ -648,17 +653,10 @@ def _declaration(item: dict, section: str, locator: StringLocator, where: Loc,
 _SCHUBERT_FAMILY_KEYS = ("applies_to", "classes")
 
 
-def read_schubert_families(text: str, label: str) -> Tuple[SchubertFamily, ...]:
-    """The [[schubert.family]] tables of a file's text, parsed (not yet expanded); errors
-    name file:line:col.  The rest of the [schubert] table is read elsewhere."""
-    try:
-        data = tomllib.loads(text)
-    except (tomllib.TOMLDecodeError, RecursionError, ValueError) as error:
-        if isinstance(error, tomllib.TOMLDecodeError):
-            raise _toml_error(error, text, label) from None
-        raise PresentationFileError("not readable as TOML", label) from None
-    table = data.get("schubert")
-    raw = table.get("family", []) if isinstance(table, dict) else []
+def read_schubert_families(raw, text: str, label: str) -> Tuple[SchubertFamily, ...]:
+    """The [[schubert.family]] tables (`raw`, the `family` value of the file's parsed
+    [schubert] table; `text`, the file's text, for positions), parsed but not yet expanded;
+    errors name file:line:col.  The rest of the [schubert] table is read elsewhere."""
     locator = StringLocator.scan(label, text)
     top = locator.key("family")
     if isinstance(raw, dict):
@@ -676,8 +674,11 @@ def read_schubert_families(text: str, label: str) -> Tuple[SchubertFamily, ...]:
                 fail(locator.key_in_table(key, start, where),
                      f"unknown key {key!r} in [[schubert.family]] (expected one of "
                      f"{', '.join(_SCHUBERT_FAMILY_KEYS)})")
-        applies_to = _family_applies_to(item, locator, locator.key_in_table("applies_to", start,
-                                                                             where), where)
+        if "applies_to" not in item:
+            fail(where, "a [[schubert.family]] needs 'applies_to' (\"grassmannians\", "
+                        "\"projective\", \"complete\", \"all\", or flag types)")
+        applies_to = _applies_to_words(item["applies_to"],
+                                       locator.key_in_table("applies_to", start, where))
         if "classes" not in item:
             fail(where, "a [[schubert.family]] needs 'classes', a list of { for = …, label = …, "
                         "expr = … } entries")
@@ -686,26 +687,4 @@ def read_schubert_families(text: str, label: str) -> Tuple[SchubertFamily, ...]:
         if not classes:
             fail(where, "empty classes list in [[schubert.family]]")
         out.append(SchubertFamily(applies_to, classes, where))
-    return tuple(out)
-
-
-def _family_applies_to(item: dict, locator: StringLocator, at: Loc,
-                       where: Loc) -> Tuple[str, ...]:
-    if "applies_to" not in item:
-        fail(where, "a [[schubert.family]] needs 'applies_to' (\"grassmannians\", "
-                    "\"projective\", \"complete\", \"all\", or flag types)")
-    raw = item["applies_to"]
-    items = [raw] if isinstance(raw, str) else raw
-    if not isinstance(items, list) or not items or not all(isinstance(x, str) for x in items):
-        fail(at, "applies_to must be a string or a non-empty list of strings")
-    out = []
-    for word in (x.strip() for x in items):
-        if word in APPLIES_TO_WORDS:
-            out.append(word)
-            continue
-        try:
-            out.append(parse_flag(word).name)
-        except FlagTypeError:
-            fail(at, f"applies_to: {word!r} is neither one of {', '.join(APPLIES_TO_WORDS)} "
-                     "nor a flag type such as Fl(1,3;5)")
     return tuple(out)

@@ -151,12 +151,7 @@ def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = No
                                f"with --set {p.name}=… or --set {p.name}_{i}=…)")
                 st.values[f"{p.name}_{i}"] = value
     generators = _expand_generators(spec, st)
-    names = [g.name for g in generators] + [f"T{j}" for j in range(1, flag.n + 1)] + \
-            [f"q{i}" for i in range(1, flag.m + 1)] + ["y"]
-    st.ctx = flint.fmpq_mpoly_ctx.get(tuple(names), "degrevlex")
-    st.y_index = len(names) - 1
-    st.term_weight = 1 + len(names) // 64
-    st.gen_index = {g.name: index for index, g in enumerate(generators)}
+    _open_ring(st, generators)
     gens = st.ctx.gens()
     st.unit_vars = {len(generators) + j - 1 for j in range(1, flag.n + 1)}
     st.unit_polys = [(1 - gens[len(generators) + flag.n + i - 1], 1) for i in range(1, flag.m + 1)]
@@ -164,6 +159,17 @@ def expand(spec: FileSpec, flag: FlagType, values: Optional[Dict[str, int]] = No
     relations = _expand_relations(spec, st)
     return Expanded(spec.file, flag, st.ctx, tuple(generators), tuple(relations), tuple(units),
                     _expected_colength(spec, st))
+
+
+def _open_ring(st: _State, generators) -> None:
+    """The canonical ring of one flag type: the generators, then T1…Tn, q1…qm and y."""
+    flag = st.flag
+    names = [g.name for g in generators] + [f"T{j}" for j in range(1, flag.n + 1)] + \
+            [f"q{i}" for i in range(1, flag.m + 1)] + ["y"]
+    st.ctx = flint.fmpq_mpoly_ctx.get(tuple(names), "degrevlex")
+    st.y_index = len(names) - 1
+    st.term_weight = 1 + len(names) // 64
+    st.gen_index = {g.name: index for index, g in enumerate(generators)}
 
 
 MAX_CLASSES = 5_000
@@ -177,12 +183,8 @@ def expand_classes(family: SchubertFamily, flag: FlagType, generators) -> List[T
     non-equivariant and classical in form: no y, T_j or q_i, integer coefficients, no
     division.  Errors name file:line:col."""
     st = _State(flag)
-    names = [g.name for g in generators] + [f"T{j}" for j in range(1, flag.n + 1)] + \
-            [f"q{i}" for i in range(1, flag.m + 1)] + ["y"]
-    st.ctx = flint.fmpq_mpoly_ctx.get(tuple(names), "degrevlex")
-    st.y_index = len(names) - 1
-    st.term_weight = 1 + len(names) // 64
-    st.gen_index = {g.name: index for index, g in enumerate(generators)}
+    _open_ring(st, generators)
+    names = st.ctx.names()
     st.by_meaning = {g.meaning: g.name for g in generators}
     out: List[Tuple[str, Loc, dict]] = []
     for decl, env, at, _ in _walk(family.classes, {}, st):
