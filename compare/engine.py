@@ -68,9 +68,7 @@ def trial_prime(prime: int, trial: int) -> int:
     algebra.check_prime(prime)
     candidate = prime
     for _ in range(trial):
-        candidate -= 1
-        while candidate >= 3 and not flint.fmpz(candidate).is_prime():
-            candidate -= 1
+        candidate = next_prime_below(candidate)
         if candidate < 3:
             raise InputError(f"prime {prime}: too small for {trial + 1} trials with distinct "
                              "primes")
@@ -78,6 +76,7 @@ def trial_prime(prime: int, trial: int) -> int:
 
 
 def next_prime_below(candidate: int) -> int:
+    """The largest prime below candidate (2 or less when there is none of at least 3)."""
     candidate -= 1
     while candidate >= 3 and not flint.fmpz(candidate).is_prime():
         candidate -= 1

@@ -111,8 +111,9 @@ class Quotient:
             raise SchubertError(f"quotient of dimension above {MAX_DIMENSION}") from None
         self.index = {m: i for i, m in enumerate(self.monomials)}
         self.dim = len(self.monomials)
-        self._powers = None         # exponents → matrix of that monomial, built on demand
-        self._generators = None
+        # built on demand: exponents → matrix of that monomial; each variable's matrix
+        self._powers: Dict[Tuple[int, ...], object] = {}
+        self._generators: List[object] = [None] * len(self.ctx.names())
 
     def vectors(self, polys: Sequence) -> List[List[int]]:
         out = []
@@ -136,20 +137,18 @@ class Quotient:
         return total
 
     def _monomial_matrix(self, exponents: Tuple[int, ...]):
-        if self._powers is None:
-            self._powers = {tuple([0] * len(exponents)): _identity(self.dim, self.prime)}
-            self._generators = [None] * len(exponents)
         if exponents not in self._powers:
-            g = next(i for i, e in enumerate(exponents) if e)
-            smaller = list(exponents)
-            smaller[g] -= 1
-            self._powers[exponents] = self._generator(g) * self._monomial_matrix(tuple(smaller))
+            if any(exponents):
+                g, smaller = _one_variable_less(exponents)
+                self._powers[exponents] = self._generator(g) * self._monomial_matrix(smaller)
+            else:
+                self._powers[exponents] = _identity(self.dim, self.prime)
         return self._powers[exponents]
 
     def generator_matrix(self, g: int):
         """Multiplication by the g-th variable: x_g·b is itself a standard monomial for most
         standard b (a unit column); only the others, on the border, need a normal form."""
-        columns: List[Optional[List[int]]] = [None] * self.dim
+        entries = [0] * (self.dim * self.dim)
         border, border_columns = [], []
         for c, b in enumerate(self.monomials):
             shifted = list(b)
@@ -159,10 +158,6 @@ class Quotient:
                 border.append(self.monomial(shifted))
                 border_columns.append(c)
             else:
-                columns[c] = target
-        entries = [0] * (self.dim * self.dim)
-        for c, target in enumerate(columns):
-            if target is not None:
                 entries[target * self.dim + c] = 1
         for c, vector in zip(border_columns, self.vectors(border)):
             for r, value in enumerate(vector):
@@ -184,18 +179,22 @@ class Quotient:
         for b in sorted(self.monomials, key=sum):
             if sum(b) == 0:
                 continue
-            g = next(i for i, e in enumerate(b) if e)
-            smaller = list(b)
-            smaller[g] -= 1
-            out[b] = self._generator(g) * out[tuple(smaller)]
+            g, smaller = _one_variable_less(b)
+            out[b] = self._generator(g) * out[smaller]
         return [out[b] for b in self.monomials]
 
     def _generator(self, g: int):
-        if self._generators is None:
-            self._monomial_matrix(tuple([0] * len(self.ctx.names())))
         if self._generators[g] is None:
             self._generators[g] = self.generator_matrix(g)
         return self._generators[g]
+
+
+def _one_variable_less(exponents) -> Tuple[int, Tuple[int, ...]]:
+    """(g, exponents − e_g) for the first variable g that occurs."""
+    g = next(i for i, e in enumerate(exponents) if e)
+    smaller = list(exponents)
+    smaller[g] -= 1
+    return g, tuple(smaller)
 
 
 def _identity(size: int, prime: int):
@@ -786,11 +785,12 @@ def first_difference(a: SchubertResult, b: SchubertResult) -> Optional[dict]:
 # ---------------------------------------------------------------------------------------
 # Choosing among the built-in candidates
 
-def _usable_prime(prime: int, flag: FlagType, family: Family, basis: Basis):
+def _usable_prime(prime: int, flag: FlagType, family: Family, basis: Optional[Basis] = None):
     """`prime`, or the next smaller one that divides no integer written in the presentation
     or in the basis' polynomials (mod such a prime a term would silently vanish)."""
     from .engine import usable_primes
-    written = {abs(c) for poly in (basis.polynomials or ()) for c in poly.values() if abs(c) > 1}
+    polynomials = basis.polynomials if basis is not None else None
+    written = {abs(c) for poly in (polynomials or ()) for c in poly.values() if abs(c) > 1}
     primes, note = usable_primes(prime, 1, [family], flag, sorted(written))
     return primes[0], note
 
@@ -824,8 +824,7 @@ def choose_candidate(flag: FlagType, family: Family, *, seed: Optional[int], pri
         return result
     # One seed for all candidates: the same q values, so each q's quotient is computed once.
     seed = random.SystemRandom().randrange(2**32) if seed is None else seed
-    from .engine import usable_primes
-    (prime,), _ = usable_primes(prime, 1, [family], flag)
+    prime, _ = _usable_prime(prime, flag, family)
     quotients: dict = {}
     rejected, first = [], None
     for candidate in sb.CANDIDATES:
